@@ -1,0 +1,63 @@
+//! Typed configuration, read once at start from flags and `GLYCOWEEK_*`
+//! environment variables (flags win). Bad values stop the start with a
+//! clear message.
+
+use std::net::SocketAddr;
+use std::path::PathBuf;
+
+use clap::{Args, ValueEnum};
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum, Default)]
+pub enum LogFormat {
+    #[default]
+    Text,
+    Json,
+}
+
+/// Settings of a running service.
+#[derive(Debug, Clone, Args)]
+pub struct Config {
+    /// Address to listen on.
+    #[arg(long, env = "GLYCOWEEK_LISTEN", default_value = "127.0.0.1:8080")]
+    pub listen: SocketAddr,
+    /// SQLite database file (created if missing).
+    #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = "./glycoweek.db")]
+    pub database: PathBuf,
+    /// Log format.
+    #[arg(long, env = "GLYCOWEEK_LOG_FORMAT", value_enum, default_value_t = LogFormat::Text)]
+    pub log_format: LogFormat,
+    /// Origins allowed by CORS, comma-separated (none by default: CORS off).
+    #[arg(long, env = "GLYCOWEEK_CORS_ORIGINS", value_delimiter = ',')]
+    pub cors_origins: Vec<String>,
+    /// Largest accepted request body in bytes.
+    #[arg(long, env = "GLYCOWEEK_BODY_LIMIT_BYTES", default_value_t = 1_048_576,
+          value_parser = clap::value_parser!(u64).range(1024..=67_108_864))]
+    pub body_limit_bytes_raw: u64,
+    /// Longest a request may take, in seconds.
+    #[arg(long, env = "GLYCOWEEK_REQUEST_TIMEOUT_SECS", default_value_t = 30,
+          value_parser = clap::value_parser!(u64).range(1..=600))]
+    pub request_timeout_secs: u64,
+    #[arg(skip)]
+    pub body_limit_bytes: usize,
+}
+
+impl Config {
+    /// Fills derived values after parsing.
+    pub fn finish(mut self) -> Self {
+        self.body_limit_bytes = usize::try_from(self.body_limit_bytes_raw).unwrap_or(1_048_576);
+        self
+    }
+
+    /// Defaults for a database path, as used by tests and tools.
+    pub fn for_database(database: PathBuf) -> Self {
+        Self {
+            listen: "127.0.0.1:0".parse().expect("valid"),
+            database,
+            log_format: LogFormat::Text,
+            cors_origins: Vec::new(),
+            body_limit_bytes_raw: 1_048_576,
+            request_timeout_secs: 30,
+            body_limit_bytes: 1_048_576,
+        }
+    }
+}

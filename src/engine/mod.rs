@@ -1,0 +1,69 @@
+//! The planning engine: pure physiology and planning computation.
+//!
+//! Plain structs in, plain structs out. Nothing in this module tree touches
+//! the database, HTTP, the clock or any other I/O, so every function here can
+//! be tested against published values and benchmarked on its own.
+//!
+//! Guided tour:
+//! - [`profile`]: the athlete and session inputs the engine understands.
+
+pub mod catalogue;
+pub mod profile;
+
+use serde::Serialize;
+use utoipa::ToSchema;
+
+/// One input value the engine cannot work with, named by its JSON path.
+#[derive(Debug, Clone, PartialEq, Serialize, ToSchema)]
+pub struct FieldIssue {
+    /// JSON path of the offending value, e.g. `segments[2].minutes`.
+    pub field: String,
+    /// Why it was rejected, in plain words.
+    pub reason: String,
+}
+
+/// Input the engine refuses to compute with. Never clamped silently.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("invalid engine input: {} issue(s)", issues.len())]
+pub struct InvalidInput {
+    pub issues: Vec<FieldIssue>,
+}
+
+impl InvalidInput {
+    pub fn single(field: impl Into<String>, reason: impl Into<String>) -> Self {
+        Self {
+            issues: vec![FieldIssue {
+                field: field.into(),
+                reason: reason.into(),
+            }],
+        }
+    }
+}
+
+/// Collects field issues while validating, so callers report all of them at once.
+#[derive(Debug, Default)]
+pub struct Issues(pub Vec<FieldIssue>);
+
+impl Issues {
+    pub fn push(&mut self, field: impl Into<String>, reason: impl Into<String>) {
+        self.0.push(FieldIssue {
+            field: field.into(),
+            reason: reason.into(),
+        });
+    }
+
+    /// Checks that `value` is finite and inside `[min, max]`.
+    pub fn range(&mut self, field: impl Into<String>, value: f64, min: f64, max: f64, unit: &str) {
+        if !value.is_finite() || value < min || value > max {
+            self.push(field, format!("must be between {min} and {max} {unit}"));
+        }
+    }
+
+    pub fn finish(self) -> Result<(), InvalidInput> {
+        if self.0.is_empty() {
+            Ok(())
+        } else {
+            Err(InvalidInput { issues: self.0 })
+        }
+    }
+}

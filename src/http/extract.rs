@@ -1,0 +1,152 @@
+//! Extractors whose rejections are problem+json with the field at fault, and
+//! the ETag / If-Match helpers of optimistic concurrency.
+
+use axum::body::Bytes;
+use axum::extract::{FromRequest, FromRequestParts, Request};
+use axum::http::request::Parts;
+use axum::http::{HeaderMap, HeaderValue, StatusCode, header};
+use serde::de::DeserializeOwned;
+
+use crate::error::ApiError;
+
+/// A JSON body. Syntax errors answer 400; values of the wrong type, missing
+/// or unknown fields answer 422 naming the field.
+pub struct JsonBody<T>(pub T);
+
+impl<S: Send + Sync, T: DeserializeOwned> FromRequest<S> for JsonBody<T> {
+    type Rejection = ApiError;
+
+    async fn from_request(req: Request, state: &S) -> Result<Self, Self::Rejection> {
+        if !is_json(req.headers()) {
+            return Err(ApiError::UnsupportedMediaType);
+        }
+        let bytes = Bytes::from_request(req, state).await.map_err(|rejection| {
+            if rejection.status() == StatusCode::PAYLOAD_TOO_LARGE {
+                ApiError::PayloadTooLarge
+            } else {
+                ApiError::BadRequest("The request body could not be read.".into())
+            }
+        })?;
+        parse_json(&bytes).map(JsonBody)
+    }
+}
+
+fn is_json(headers: &HeaderMap) -> bool {
+    let Some(value) = headers.get(header::CONTENT_TYPE).and_then(|v| v.to_str().ok()) else {
+        return false;
+    };
+    let essence = value.split(';').next().unwrap_or("").trim().to_ascii_lowercase();
+    essence == "application/json" || (essence.starts_with("application/") && essence.ends_with("+json"))
+}
+
+pub fn parse_json<T: DeserializeOwned>(bytes: &[u8]) -> Result<T, ApiError> {
+    let de = &mut serde_json::Deserializer::from_slice(bytes);
+    match serde_path_to_error::deserialize(de) {
+        Ok(value) => Ok(value),
+        Err(err) => {
+            let path = err.path().to_string();
+            let inner = err.into_inner();
+            use serde_json::error::Category;
+            match inner.classify() {
+                Category::Data => Err(ApiError::field(
+                    if path == "." { String::new() } else { path },
+                    clean_serde_message(&inner.to_string()),
+                )),
+                Category::Syntax | Category::Eof | Category::Io => Err(ApiError::BadRequest(format!(
+                    "The body is not valid JSON ({}).",
+                    inner
+                ))),
+            }
+        }
+    }
+}
+
+/// serde's messages end with " at line L column C"; the path already says where.
+fn clean_serde_message(message: &str) -> String {
+    match message.rfind(" at line ") {
+        Some(i) => message[..i].to_owned(),
+        None => message.to_owned(),
+    }
+}
+
+/// Query-string parameters, with the parameter at fault on error.
+pub struct QueryParams<T>(pub T);
+
+impl<S: Send + Sync, T: DeserializeOwned> FromRequestParts<S> for QueryParams<T> {
+    type Rejection = ApiError;
+
+    async fn from_request_parts(parts: &mut Parts, _state: &S) -> Result<Self, Self::Rejection> {
+        let query = parts.uri.query().unwrap_or("");
+        let de = serde_urlencoded::Deserializer::new(form_urlencoded_parse(query));
+        serde_path_to_error::deserialize(de)
+            .map(QueryParams)
+            .map_err(|err| {
+                let path = err.path().to_string();
+                let message = err.into_inner().to_string();
+                // Unknown-field and missing-field messages name the field themselves.
+                let field = if path == "." {
+                    message
+                        .split('`')
+                        .nth(1)
+                        .map(str::to_owned)
+                        .unwrap_or_default()
+                } else {
+                    path
+                };
+                ApiError::field(field, clean_serde_message(&message))
+            })
+    }
+}
+
+fn form_urlencoded_parse(query: &str) -> form_urlencoded::Parse<'_> {
+    form_urlencoded::parse(query.as_bytes())
+}
+
+/// A path parameter that must be a UUID; anything else answers 404, exactly as
+/// an id that does not exist would.
+pub struct PathIds<T>(pub T);
+
+impl<S: Send + Sync, T: DeserializeOwned + Send> FromRequestParts<S> for PathIds<T> {
+    type Rejection = ApiError;
+
+    async fn from_request_parts(parts: &mut Parts, state: &S) -> Result<Self, Self::Rejection> {
+        axum::extract::Path::<T>::from_request_parts(parts, state)
+            .await
+            .map(|axum::extract::Path(v)| PathIds(v))
+            .map_err(|_| ApiError::NotFound("resource"))
+    }
+}
+
+/// The version named by `If-Match`, when the client sent one.
+pub struct IfMatch(pub Option<i64>);
+
+impl<S: Send + Sync> FromRequestParts<S> for IfMatch {
+    type Rejection = ApiError;
+
+    async fn from_request_parts(parts: &mut Parts, _state: &S) -> Result<Self, Self::Rejection> {
+        let Some(raw) = parts.headers.get(header::IF_MATCH) else {
+            return Ok(IfMatch(None));
+        };
+        let raw = raw.to_str().unwrap_or("").trim();
+        if raw == "*" {
+            return Ok(IfMatch(None));
+        }
+        // Any listed tag that is not ours can never match: 412, not 400.
+        let version = raw
+            .split(',')
+            .filter_map(|tag| parse_etag(tag.trim()))
+            .next()
+            .unwrap_or(-1);
+        Ok(IfMatch(Some(version)))
+    }
+}
+
+/// ETags are the row's version: `"v3"`.
+pub fn etag(version: i64) -> HeaderValue {
+    HeaderValue::from_str(&format!("\"v{version}\"")).expect("ascii")
+}
+
+fn parse_etag(tag: &str) -> Option<i64> {
+    let tag = tag.strip_prefix("W/").unwrap_or(tag);
+    tag.strip_prefix("\"v")?.strip_suffix('"')?.parse().ok()
+}

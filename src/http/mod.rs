@@ -1,0 +1,158 @@
+//! The HTTP layer: one module per resource, each with its own router, all
+//! registered through `utoipa_axum` so the OpenAPI document is generated
+//! from the code that serves. Handlers are short: extract, call the store or
+//! the engine, map to a response.
+
+pub mod athletes;
+pub mod auth;
+pub mod extract;
+pub mod middleware;
+pub mod openapi;
+pub mod sessions;
+pub mod teams;
+pub mod tokens;
+
+use axum::Json;
+use axum::extract::State;
+use axum::http::{HeaderValue, StatusCode, header};
+use axum::response::{IntoResponse, Response};
+use chrono::NaiveDate;
+use serde::Serialize;
+use serde::de::DeserializeOwned;
+use utoipa::ToSchema;
+use utoipa_axum::{router::OpenApiRouter, routes};
+use uuid::Uuid;
+
+use crate::AppState;
+use crate::domain::team::Team;
+use crate::error::{ApiError, Result};
+use crate::store::Write;
+use auth::Caller;
+
+/// All API routes with their OpenAPI description.
+pub fn api_router() -> OpenApiRouter<AppState> {
+    OpenApiRouter::with_openapi(openapi::base())
+        .routes(routes!(health))
+        .merge(teams::router())
+        .merge(athletes::router())
+        .merge(sessions::router())
+        .merge(tokens::router())
+}
+
+pub fn json<T: Serialize>(status: StatusCode, body: &T) -> Response {
+    (status, Json(body)).into_response()
+}
+
+/// A resource with its ETag.
+pub fn versioned<T: Serialize>(version: i64, body: &T) -> Response {
+    let mut res = json(StatusCode::OK, body);
+    res.headers_mut().insert(header::ETAG, extract::etag(version));
+    res
+}
+
+pub fn created<T: Serialize>(location: &str, version: i64, body: &T) -> Response {
+    let mut res = json(StatusCode::CREATED, body);
+    res.headers_mut().insert(header::ETAG, extract::etag(version));
+    if let Ok(v) = HeaderValue::from_str(location) {
+        res.headers_mut().insert(header::LOCATION, v);
+    }
+    res
+}
+
+pub trait Versioned {
+    fn version(&self) -> i64;
+}
+
+macro_rules! versioned_types {
+    ($($t:ty),*) => { $(impl Versioned for $t { fn version(&self) -> i64 { self.version } })* };
+}
+versioned_types!(
+    Team,
+    crate::domain::athlete::Athlete,
+    crate::domain::session::Session,
+    crate::domain::session::Participation
+);
+
+pub fn written<T: Serialize + Versioned>(w: Write<T>, what: &'static str) -> Result<Response> {
+    match w {
+        Write::Done(v) => Ok(versioned(v.version(), &v)),
+        Write::NotFound => Err(ApiError::NotFound(what)),
+        Write::Stale => Err(ApiError::PreconditionFailed),
+    }
+}
+
+pub fn deleted(w: Write<()>, what: &'static str) -> Result<Response> {
+    match w {
+        Write::Done(()) => Ok(StatusCode::NO_CONTENT.into_response()),
+        Write::NotFound => Err(ApiError::NotFound(what)),
+        Write::Stale => Err(ApiError::PreconditionFailed),
+    }
+}
+
+/// Applies a JSON merge patch (RFC 7396) to the current input shape and
+/// parses the result, so a patch is validated exactly like a create.
+pub fn apply_merge_patch<T: Serialize + DeserializeOwned>(current: &T, patch: &serde_json::Value) -> Result<T> {
+    if !patch.is_object() {
+        return Err(ApiError::field("", "a merge patch must be a JSON object"));
+    }
+    let mut target = serde_json::to_value(current).map_err(ApiError::internal)?;
+    merge(&mut target, patch);
+    let bytes = serde_json::to_vec(&target).map_err(ApiError::internal)?;
+    extract::parse_json(&bytes)
+}
+
+fn merge(target: &mut serde_json::Value, patch: &serde_json::Value) {
+    use serde_json::Value;
+    match patch {
+        Value::Object(fields) => {
+            if !target.is_object() {
+                *target = Value::Object(Default::default());
+            }
+            let map = target.as_object_mut().expect("object");
+            for (key, value) in fields {
+                if value.is_null() {
+                    map.remove(key);
+                } else {
+                    merge(map.entry(key.clone()).or_insert(Value::Null), value);
+                }
+            }
+        }
+        other => *target = other.clone(),
+    }
+}
+
+/// The team, if this caller may see it; 404 otherwise.
+pub async fn visible_team(state: &AppState, caller: &Caller, team_id: Uuid) -> Result<Team> {
+    caller.read(team_id, "team")?;
+    crate::store::teams::get(&state.db, team_id)
+        .await?
+        .ok_or(ApiError::NotFound("team"))
+}
+
+/// Today's date where the team lives.
+pub fn team_today(team: &Team) -> NaiveDate {
+    chrono::Utc::now().with_timezone(&team.tz()).date_naive()
+}
+
+#[derive(Serialize, ToSchema)]
+pub struct Health {
+    /// `ok` when the service and its database answer.
+    #[schema(example = "ok")]
+    status: &'static str,
+    #[schema(example = "0.1.0")]
+    version: &'static str,
+}
+
+/// Liveness and readiness: answers 200 when the database answers.
+#[utoipa::path(get, path = "/health", tag = "service", security(()),
+    responses((status = 200, description = "Healthy", body = Health)))]
+async fn health(State(state): State<AppState>) -> Result<Response> {
+    state.db.ping().await.map_err(|_| ApiError::StorageUnavailable)?;
+    Ok(json(
+        StatusCode::OK,
+        &Health {
+            status: "ok",
+            version: env!("CARGO_PKG_VERSION"),
+        },
+    ))
+}

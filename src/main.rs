@@ -1,0 +1,222 @@
+//! The `glycoweek` binary: parse the command line, then hand over to the library.
+
+#![forbid(unsafe_code)]
+
+use std::path::PathBuf;
+use std::process::ExitCode;
+use std::sync::Arc;
+
+use clap::{Parser, Subcommand};
+use glycoweek::config::{Config, LogFormat};
+use glycoweek::domain::token::{Role, TokenInput};
+use glycoweek::store::{Db, audit::Actor, tokens};
+use glycoweek::{AppState, demo};
+use tokio::net::TcpListener;
+use uuid::Uuid;
+
+#[derive(Parser)]
+#[command(name = "glycoweek", version, about = "Carbohydrate periodization for a squad's planned week")]
+struct Cli {
+    #[command(subcommand)]
+    command: Option<Command>,
+    #[command(flatten)]
+    serve: ServeArgs,
+}
+
+#[derive(clap::Args)]
+struct ServeArgs {
+    #[command(flatten)]
+    config: Config,
+    /// Load the fictional demo club into an empty database before serving.
+    #[arg(long)]
+    demo: bool,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Serve the API (the default).
+    Serve(ServeArgs),
+    /// Create, list or revoke API tokens.
+    #[command(subcommand)]
+    Token(TokenCommand),
+    /// Write a consistent copy of a live database.
+    Backup {
+        #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = "./glycoweek.db")]
+        database: PathBuf,
+        /// Destination file (must not exist).
+        #[arg(long)]
+        to: PathBuf,
+    },
+}
+
+#[derive(Subcommand)]
+enum TokenCommand {
+    /// Create a token and print its secret alone on standard output.
+    Create {
+        #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = "./glycoweek.db")]
+        database: PathBuf,
+        #[arg(long, value_enum)]
+        role: Role,
+        /// Team of a planner or reader token.
+        #[arg(long)]
+        team: Option<Uuid>,
+        #[arg(long, default_value = "created on the command line")]
+        label: String,
+    },
+    /// Revoke a token by id; it stops working at once.
+    Revoke {
+        #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = "./glycoweek.db")]
+        database: PathBuf,
+        token_id: Uuid,
+    },
+    /// List tokens (ids, roles, teams; never secrets).
+    List {
+        #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = "./glycoweek.db")]
+        database: PathBuf,
+    },
+}
+
+const CLI: Actor = Actor { token_id: None };
+
+#[tokio::main]
+async fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let result = match cli.command {
+        None => serve(cli.serve).await,
+        Some(Command::Serve(args)) => serve(args).await,
+        Some(Command::Token(cmd)) => token(cmd).await,
+        Some(Command::Backup { database, to }) => backup(database, to).await,
+    };
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(message) => {
+            eprintln!("glycoweek: {message}");
+            ExitCode::FAILURE
+        }
+    }
+}
+
+fn init_tracing(format: LogFormat) {
+    let filter = tracing_subscriber::EnvFilter::try_from_default_env()
+        .unwrap_or_else(|_| "info,sqlx=warn,tower_http=info".into());
+    let builder = tracing_subscriber::fmt().with_env_filter(filter).with_writer(std::io::stderr);
+    match format {
+        LogFormat::Text => builder.init(),
+        LogFormat::Json => builder.json().init(),
+    }
+}
+
+async fn open(database: &std::path::Path) -> Result<Db, String> {
+    Db::open(database).await.map_err(|e| e.to_string())
+}
+
+async fn serve(args: ServeArgs) -> Result<(), String> {
+    let config = args.config.finish();
+    init_tracing(config.log_format);
+    let db = open(&config.database).await?;
+    if args.demo {
+        match demo::load_if_empty(&db).await.map_err(|e| format!("loading the demo failed: {e}"))? {
+            Some(summary) => eprintln!("{summary}"),
+            None => eprintln!("The database already holds teams; the demo was not loaded again."),
+        }
+    }
+    if !tokens::any_token(&db).await.map_err(|e| e.to_string())? {
+        let created = tokens::create(
+            &db,
+            CLI,
+            &TokenInput {
+                label: "first administrator".into(),
+                role: Role::Admin,
+                team_id: None,
+            },
+        )
+        .await
+        .map_err(|e| e.to_string())?;
+        eprintln!(
+            "\nFirst start: an administrator token was created. It is shown once; store it now:\n\n    {}\n",
+            created.secret
+        );
+    }
+    let listener = TcpListener::bind(config.listen)
+        .await
+        .map_err(|e| format!("cannot listen on {}: {e}", config.listen))?;
+    let addr = listener.local_addr().map_err(|e| e.to_string())?;
+    eprintln!("glycoweek is listening on http://{addr}  (API docs: http://{addr}/docs)");
+    tracing::info!(%addr, database = %config.database.display(), "serving");
+    let state = AppState {
+        db: db.clone(),
+        config: Arc::new(config),
+    };
+    glycoweek::serve(listener, state, glycoweek::shutdown_signal())
+        .await
+        .map_err(|e| e.to_string())?;
+    db.close().await;
+    Ok(())
+}
+
+async fn token(cmd: TokenCommand) -> Result<(), String> {
+    match cmd {
+        TokenCommand::Create { database, role, team, label } => {
+            let db = open(&database).await?;
+            let input = TokenInput { label, role, team_id: team };
+            input.validate().map_err(|e| {
+                e.issues
+                    .iter()
+                    .map(|i| format!("{}: {}", i.field, i.reason))
+                    .collect::<Vec<_>>()
+                    .join("; ")
+            })?;
+            if let Some(team) = team {
+                glycoweek::store::teams::get(&db, team)
+                    .await
+                    .map_err(|e| e.to_string())?
+                    .ok_or_else(|| format!("no team with id {team}"))?;
+            }
+            let created = tokens::create(&db, CLI, &input).await.map_err(|e| e.to_string())?;
+            println!("{}", created.secret);
+            db.close().await;
+            Ok(())
+        }
+        TokenCommand::Revoke { database, token_id } => {
+            let db = open(&database).await?;
+            match tokens::revoke(&db, CLI, token_id).await.map_err(|e| e.to_string())? {
+                glycoweek::store::Write::Done(_) => {
+                    eprintln!("revoked {token_id}");
+                    db.close().await;
+                    Ok(())
+                }
+                _ => Err(format!("no token with id {token_id}")),
+            }
+        }
+        TokenCommand::List { database } => {
+            let db = open(&database).await?;
+            let list = tokens::list(&db, None, None, 10_000).await.map_err(|e| e.to_string())?;
+            for t in list {
+                println!(
+                    "{}\t{:?}\t{}\t{}\t{}",
+                    t.id,
+                    t.role,
+                    t.team_id.map(|t| t.to_string()).unwrap_or_else(|| "-".into()),
+                    if t.revoked_at.is_some() { "revoked" } else { "live" },
+                    t.label
+                );
+            }
+            db.close().await;
+            Ok(())
+        }
+    }
+}
+
+async fn backup(database: PathBuf, to: PathBuf) -> Result<(), String> {
+    if !database.exists() {
+        return Err(format!("no database at {}", database.display()));
+    }
+    if to.exists() {
+        return Err(format!("{} exists; choose a new file", to.display()));
+    }
+    let db = open(&database).await?;
+    db.backup(&to).await.map_err(|e| format!("backup failed: {e}"))?;
+    db.close().await;
+    eprintln!("wrote a consistent copy of {} to {}", database.display(), to.display());
+    Ok(())
+}

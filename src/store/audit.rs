@@ -1,0 +1,117 @@
+//! Append-only audit trail, written inside the transaction of the change it
+//! records, so a change and its trail commit or vanish together.
+
+use chrono::{DateTime, Utc};
+use serde::Serialize;
+use serde_json::Value;
+use tracing::instrument;
+use utoipa::ToSchema;
+use uuid::Uuid;
+
+use super::{Tx, now_text};
+
+/// Who made a change: the token's id (none for the command line).
+#[derive(Debug, Clone, Copy)]
+pub struct Actor {
+    pub token_id: Option<Uuid>,
+}
+
+#[derive(Debug, Clone, Copy, Serialize, ToSchema)]
+#[serde(rename_all = "snake_case")]
+pub enum Action {
+    Create,
+    Update,
+    Delete,
+    Import,
+    Revoke,
+}
+
+pub struct Entry<'a> {
+    pub team_id: Option<Uuid>,
+    pub action: Action,
+    pub entity_type: &'a str,
+    pub entity_id: String,
+    pub before: Option<Value>,
+    pub after: Option<Value>,
+}
+
+#[instrument(skip_all, fields(entity = entry.entity_type))]
+pub async fn record(tx: &mut Tx, actor: Actor, entry: Entry<'_>) -> Result<(), sqlx::Error> {
+    let now = now_text();
+    let token_id = actor.token_id.map(|t| t.to_string());
+    let team_id = entry.team_id.map(|t| t.to_string());
+    let action = crate::domain::label_of(&entry.action);
+    let before = entry.before.map(|v| v.to_string());
+    let after = entry.after.map(|v| v.to_string());
+    sqlx::query!(
+        "INSERT INTO audit_log (occurred_at, token_id, team_id, action, entity_type, entity_id, before_json, after_json)
+         VALUES (?, ?, ?, ?, ?, ?, ?, ?)",
+        now,
+        token_id,
+        team_id,
+        action,
+        entry.entity_type,
+        entry.entity_id,
+        before,
+        after
+    )
+    .execute(&mut **tx)
+    .await?;
+    Ok(())
+}
+
+/// One recorded change.
+#[derive(Debug, Clone, Serialize, ToSchema)]
+pub struct AuditEntry {
+    pub seq: i64,
+    pub occurred_at: DateTime<Utc>,
+    /// The token that made the change; absent for the command line.
+    pub token_id: Option<Uuid>,
+    pub team_id: Option<Uuid>,
+    pub action: String,
+    pub entity_type: String,
+    pub entity_id: String,
+    #[schema(value_type = Option<Object>)]
+    pub before: Option<Value>,
+    #[schema(value_type = Option<Object>)]
+    pub after: Option<Value>,
+}
+
+/// Entries after `after_seq`, oldest first; `team` limits to one team.
+#[instrument(skip_all)]
+pub async fn list(
+    pool: &sqlx::SqlitePool,
+    team: Option<Uuid>,
+    after_seq: i64,
+    limit: u32,
+) -> Result<Vec<AuditEntry>, sqlx::Error> {
+    let team = team.map(|t| t.to_string());
+    let limit = i64::from(limit);
+    let rows = sqlx::query!(
+        r#"SELECT seq as "seq!", occurred_at, token_id, team_id, action, entity_type, entity_id, before_json, after_json
+           FROM audit_log
+           WHERE seq > ? AND (? IS NULL OR team_id = ?)
+           ORDER BY seq LIMIT ?"#,
+        after_seq,
+        team,
+        team,
+        limit
+    )
+    .fetch_all(pool)
+    .await?;
+    rows.into_iter()
+        .map(|r| {
+            Ok(AuditEntry {
+                seq: r.seq,
+                occurred_at: super::parse_instant(&r.occurred_at)?,
+                token_id: r.token_id.as_deref().map(super::uuid).transpose()?,
+                team_id: r.team_id.as_deref().map(super::uuid).transpose()?,
+                action: r.action,
+                entity_type: r.entity_type,
+                entity_id: r.entity_id,
+                before: r.before_json.as_deref().map(super::from_json).transpose()?,
+                after: r.after_json.as_deref().map(super::from_json).transpose()?,
+            })
+        })
+        .collect()
+}
