@@ -46,6 +46,10 @@ pub struct SessionListParams {
     cursor: Option<String>,
 }
 
+/// Open ends of a date filter (stored dates compare as ISO text).
+const EARLIEST: NaiveDate = NaiveDate::from_ymd_opt(1900, 1, 1).expect("valid");
+const LATEST: NaiveDate = NaiveDate::from_ymd_opt(9999, 12, 31).expect("valid");
+
 pub async fn visible_session(state: &AppState, caller: &Caller, id: Uuid) -> Result<Session> {
     let session = sessions::get(&state.db, id).await?.ok_or(ApiError::NotFound("session"))?;
     caller.read(session.team_id, "session")?;
@@ -67,8 +71,8 @@ async fn list_sessions(
     let page = PageParams { limit: q.limit, cursor: q.cursor };
     let limit = page.limit()?;
     let after: Option<SessionKey> = page.after()?;
-    let from = q.from.unwrap_or(NaiveDate::MIN);
-    let to = q.to.unwrap_or(NaiveDate::MAX);
+    let from = q.from.unwrap_or(EARLIEST);
+    let to = q.to.unwrap_or(LATEST);
     if to < from {
         return Err(ApiError::field("to", "must not be before from"));
     }

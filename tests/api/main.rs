@@ -1,0 +1,7 @@
+//! One integration-test binary (cheap to link), one module per area.
+//! Every test starts its own service on a fresh temporary database and talks
+//! to it over real HTTP.
+
+mod helpers;
+
+mod basics;
