@@ -9,7 +9,9 @@ use uuid::Uuid;
 use crate::domain::athlete::{AthleteInput, AthleteStatus, CareFlag, InitialBodyMass};
 use crate::domain::session::{ParticipationInput, ParticipationMode, Portion, SessionInput};
 use crate::domain::team::TeamInput;
-use crate::engine::profile::{GoalDirection, Intensity, Segment, SessionKind, Sex, TrainingStatus, Vo2maxSource};
+use crate::engine::profile::{
+    GoalDirection, Intensity, Segment, SessionKind, Sex, TrainingStatus, Vo2maxSource,
+};
 use crate::store::audit::Actor;
 use crate::store::{Db, athletes, sessions, teams};
 
@@ -23,7 +25,10 @@ struct Dice(u64);
 
 impl Dice {
     fn next(&mut self) -> f64 {
-        self.0 = self.0.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+        self.0 = self
+            .0
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
         ((self.0 >> 11) as f64) / ((1u64 << 53) as f64)
     }
     fn between(&mut self, lo: f64, hi: f64) -> f64 {
@@ -35,21 +40,61 @@ impl Dice {
 }
 
 const SENIOR_FIRST: [&str; 25] = [
-    "Aldo", "Bram", "Caius", "Dario", "Emrys", "Fenn", "Gael", "Hollis", "Idris", "Joss", "Kit", "Lorne", "Mato",
-    "Niall", "Oren", "Piet", "Quill", "Rafe", "Soren", "Tavi", "Ulric", "Vance", "Wystan", "Yorick", "Zeno",
+    "Aldo", "Bram", "Caius", "Dario", "Emrys", "Fenn", "Gael", "Hollis", "Idris", "Joss", "Kit",
+    "Lorne", "Mato", "Niall", "Oren", "Piet", "Quill", "Rafe", "Soren", "Tavi", "Ulric", "Vance",
+    "Wystan", "Yorick", "Zeno",
 ];
 const SENIOR_LAST: [&str; 25] = [
-    "Ashdown", "Brackley", "Corran", "Dunmore", "Elsworth", "Farrant", "Glenholm", "Harrow", "Ivesby", "Jarrow",
-    "Kettlewell", "Lindqvale", "Marchetti", "Norcott", "Oakhurst", "Pellow", "Quarrie", "Rensby", "Stellan",
-    "Thistlewood", "Underhay", "Varrick", "Whitmoor", "Yelland", "Zamorin",
+    "Ashdown",
+    "Brackley",
+    "Corran",
+    "Dunmore",
+    "Elsworth",
+    "Farrant",
+    "Glenholm",
+    "Harrow",
+    "Ivesby",
+    "Jarrow",
+    "Kettlewell",
+    "Lindqvale",
+    "Marchetti",
+    "Norcott",
+    "Oakhurst",
+    "Pellow",
+    "Quarrie",
+    "Rensby",
+    "Stellan",
+    "Thistlewood",
+    "Underhay",
+    "Varrick",
+    "Whitmoor",
+    "Yelland",
+    "Zamorin",
 ];
 const U21_FIRST: [&str; 20] = [
-    "Ada", "Bryony", "Cass", "Delphine", "Elin", "Fia", "Greer", "Hana", "Isla", "Juno", "Kea", "Liv", "Maren",
-    "Nell", "Odile", "Petra", "Rhian", "Saffi", "Tamsin", "Wren",
+    "Ada", "Bryony", "Cass", "Delphine", "Elin", "Fia", "Greer", "Hana", "Isla", "Juno", "Kea",
+    "Liv", "Maren", "Nell", "Odile", "Petra", "Rhian", "Saffi", "Tamsin", "Wren",
 ];
 const U21_LAST: [&str; 20] = [
-    "Arkwell", "Bellamore", "Caskey", "Drummond", "Eastleigh", "Fairbrook", "Gorran", "Hesketh", "Ingleby",
-    "Jessop", "Kilbride", "Loxley", "Merrow", "Nantes", "Ockley", "Pendry", "Redvers", "Sallow", "Trevane",
+    "Arkwell",
+    "Bellamore",
+    "Caskey",
+    "Drummond",
+    "Eastleigh",
+    "Fairbrook",
+    "Gorran",
+    "Hesketh",
+    "Ingleby",
+    "Jessop",
+    "Kilbride",
+    "Loxley",
+    "Merrow",
+    "Nantes",
+    "Ockley",
+    "Pendry",
+    "Redvers",
+    "Sallow",
+    "Trevane",
     "Westcombe",
 ];
 
@@ -66,7 +111,9 @@ fn fraction(f: f64) -> Intensity {
 }
 
 fn activity(key: &str) -> Intensity {
-    Intensity::Activity { activity: key.into() }
+    Intensity::Activity {
+        activity: key.into(),
+    }
 }
 
 fn session(
@@ -100,55 +147,129 @@ fn senior_week(monday: NaiveDate) -> Vec<SessionInput> {
         SessionKind::Training,
         "Early aerobic ride (train low)",
         false,
-        vec![seg("steady ride", 50.0, Intensity::Cycling { watts: 170.0 })],
+        vec![seg(
+            "steady ride",
+            50.0,
+            Intensity::Cycling { watts: 170.0 },
+        )],
     );
     pre_match_training.train_low = true;
     vec![
-        session(day(0), "09:30", SessionKind::Training, "Pitch: possession and pressing", false, vec![
-            seg("warm-up", 15.0, fraction(0.5)),
-            seg("rondos", 20.0, Intensity::HeartRate { bpm: 150.0 }),
-            seg("small-sided games", 30.0, Intensity::HeartRate { bpm: 170.0 }),
-            seg("cool-down", 10.0, Intensity::Mets { mets: 3.0 }),
-        ]),
-        session(day(0), "15:30", SessionKind::Strength, "Gym: lower-body strength", false, vec![seg(
-            "strength circuit",
-            55.0,
-            activity("resistance_training_vigorous"),
-        )]),
+        session(
+            day(0),
+            "09:30",
+            SessionKind::Training,
+            "Pitch: possession and pressing",
+            false,
+            vec![
+                seg("warm-up", 15.0, fraction(0.5)),
+                seg("rondos", 20.0, Intensity::HeartRate { bpm: 150.0 }),
+                seg(
+                    "small-sided games",
+                    30.0,
+                    Intensity::HeartRate { bpm: 170.0 },
+                ),
+                seg("cool-down", 10.0, Intensity::Mets { mets: 3.0 }),
+            ],
+        ),
+        session(
+            day(0),
+            "15:30",
+            SessionKind::Strength,
+            "Gym: lower-body strength",
+            false,
+            vec![seg(
+                "strength circuit",
+                55.0,
+                activity("resistance_vigorous"),
+            )],
+        ),
         pre_match_training,
-        session(day(1), "11:00", SessionKind::Training, "Pitch: high-intensity running and finishing", true, vec![
-            seg("warm-up", 15.0, fraction(0.55)),
-            seg("repeated sprints", 20.0, fraction(0.88)),
-            seg("finishing", 25.0, Intensity::SessionRpe { rating: 6.0 }),
-            seg("extensive runs", 20.0, Intensity::Running { speed_kmh: 12.0, grade_percent: 0.0 }),
-            seg("cool-down", 10.0, fraction(0.4)),
-        ]),
-        session(day(2), "10:30", SessionKind::Recovery, "Pool and mobility", false, vec![
-            seg("pool", 25.0, activity("swimming_freestyle_moderate")),
-            seg("mobility", 20.0, Intensity::Mets { mets: 2.5 }),
-        ]),
-        session(day(3), "10:30", SessionKind::Training, "Pitch: tactical eleven v eleven", true, vec![
-            seg("warm-up", 15.0, fraction(0.5)),
-            seg("eleven v eleven", 50.0, activity("football_training")),
-            seg("set pieces", 20.0, Intensity::SessionRpe { rating: 3.0 }),
-        ]),
-        session(day(4), "10:30", SessionKind::Training, "Pre-match activation", false, vec![
-            seg("activation", 35.0, Intensity::SessionRpe { rating: 3.0 }),
-            seg("short sprints", 10.0, fraction(0.8)),
-        ]),
-        session(day(4), "14:30", SessionKind::Travel, "Coach travel to the away ground", false, vec![seg(
-            "coach",
-            180.0,
-            Intensity::Mets { mets: 1.3 },
-        )]),
-        session(day(5), "15:00", SessionKind::Match, "League match (away)", true, vec![
-            seg("first half", 47.0, activity("football_match")),
-            seg("second half", 48.0, activity("football_match")),
-        ]),
-        session(day(6), "11:00", SessionKind::Recovery, "Recovery: pool and stretch", false, vec![
-            seg("pool", 20.0, activity("swimming_freestyle_moderate")),
-            seg("stretch", 20.0, Intensity::Mets { mets: 2.3 }),
-        ]),
+        session(
+            day(1),
+            "11:00",
+            SessionKind::Training,
+            "Pitch: high-intensity running and finishing",
+            true,
+            vec![
+                seg("warm-up", 15.0, fraction(0.55)),
+                seg("repeated sprints", 20.0, fraction(0.88)),
+                seg("finishing", 25.0, Intensity::SessionRpe { rating: 6.0 }),
+                seg(
+                    "extensive runs",
+                    20.0,
+                    Intensity::Running {
+                        speed_kmh: 12.0,
+                        grade_percent: 0.0,
+                    },
+                ),
+                seg("cool-down", 10.0, fraction(0.4)),
+            ],
+        ),
+        session(
+            day(2),
+            "10:30",
+            SessionKind::Recovery,
+            "Pool and mobility",
+            false,
+            vec![
+                seg("pool", 25.0, activity("swimming_freestyle_moderate")),
+                seg("mobility", 20.0, Intensity::Mets { mets: 2.5 }),
+            ],
+        ),
+        session(
+            day(3),
+            "10:30",
+            SessionKind::Training,
+            "Pitch: tactical eleven v eleven",
+            true,
+            vec![
+                seg("warm-up", 15.0, fraction(0.5)),
+                seg("eleven v eleven", 50.0, activity("football_training")),
+                seg("set pieces", 20.0, Intensity::SessionRpe { rating: 3.0 }),
+            ],
+        ),
+        session(
+            day(4),
+            "10:30",
+            SessionKind::Training,
+            "Pre-match activation",
+            false,
+            vec![
+                seg("activation", 35.0, Intensity::SessionRpe { rating: 3.0 }),
+                seg("short sprints", 10.0, fraction(0.8)),
+            ],
+        ),
+        session(
+            day(4),
+            "14:30",
+            SessionKind::Travel,
+            "Coach travel to the away ground",
+            false,
+            vec![seg("coach", 180.0, Intensity::Mets { mets: 1.3 })],
+        ),
+        session(
+            day(5),
+            "15:00",
+            SessionKind::Match,
+            "League match (away)",
+            true,
+            vec![
+                seg("first half", 47.0, activity("football_match")),
+                seg("second half", 48.0, activity("football_match")),
+            ],
+        ),
+        session(
+            day(6),
+            "11:00",
+            SessionKind::Recovery,
+            "Recovery: pool and stretch",
+            false,
+            vec![
+                seg("pool", 20.0, activity("swimming_freestyle_moderate")),
+                seg("stretch", 20.0, Intensity::Mets { mets: 2.3 }),
+            ],
+        ),
     ]
 }
 
@@ -156,30 +277,69 @@ fn senior_week(monday: NaiveDate) -> Vec<SessionInput> {
 fn u21_week(monday: NaiveDate) -> Vec<SessionInput> {
     let day = |n: u64| monday.checked_add_days(Days::new(n)).expect("date");
     vec![
-        session(day(0), "18:30", SessionKind::Training, "Pitch: technical circuit", false, vec![
-            seg("warm-up", 15.0, fraction(0.5)),
-            seg("technical circuit", 45.0, Intensity::SessionRpe { rating: 5.0 }),
-            seg("cool-down", 10.0, fraction(0.4)),
-        ]),
-        session(day(1), "18:30", SessionKind::Strength, "Gym: movement and strength", false, vec![seg(
-            "strength",
-            50.0,
-            activity("resistance_training_moderate"),
-        )]),
-        session(day(2), "18:30", SessionKind::Training, "Pitch: small-sided games", true, vec![
-            seg("warm-up", 15.0, fraction(0.55)),
-            seg("small-sided games", 40.0, Intensity::HeartRate { bpm: 172.0 }),
-            seg("cool-down", 10.0, fraction(0.4)),
-        ]),
-        session(day(4), "18:00", SessionKind::Training, "Pre-match shape", false, vec![seg(
-            "team shape",
-            50.0,
-            Intensity::SessionRpe { rating: 3.0 },
-        )]),
-        session(day(6), "13:00", SessionKind::Match, "Under-21 league match", true, vec![
-            seg("first half", 46.0, activity("football_match")),
-            seg("second half", 47.0, activity("football_match")),
-        ]),
+        session(
+            day(0),
+            "18:30",
+            SessionKind::Training,
+            "Pitch: technical circuit",
+            false,
+            vec![
+                seg("warm-up", 15.0, fraction(0.5)),
+                seg(
+                    "technical circuit",
+                    45.0,
+                    Intensity::SessionRpe { rating: 5.0 },
+                ),
+                seg("cool-down", 10.0, fraction(0.4)),
+            ],
+        ),
+        session(
+            day(1),
+            "18:30",
+            SessionKind::Strength,
+            "Gym: movement and strength",
+            false,
+            vec![seg("strength", 50.0, activity("resistance_moderate"))],
+        ),
+        session(
+            day(2),
+            "18:30",
+            SessionKind::Training,
+            "Pitch: small-sided games",
+            true,
+            vec![
+                seg("warm-up", 15.0, fraction(0.55)),
+                seg(
+                    "small-sided games",
+                    40.0,
+                    Intensity::HeartRate { bpm: 172.0 },
+                ),
+                seg("cool-down", 10.0, fraction(0.4)),
+            ],
+        ),
+        session(
+            day(4),
+            "18:00",
+            SessionKind::Training,
+            "Pre-match shape",
+            false,
+            vec![seg(
+                "team shape",
+                50.0,
+                Intensity::SessionRpe { rating: 3.0 },
+            )],
+        ),
+        session(
+            day(6),
+            "13:00",
+            SessionKind::Match,
+            "Under-21 league match",
+            true,
+            vec![
+                seg("first half", 46.0, activity("football_match")),
+                seg("second half", 47.0, activity("football_match")),
+            ],
+        ),
     ]
 }
 
@@ -205,18 +365,31 @@ fn athlete_input(squad: &Squad, i: usize, dice: &mut Dice, week_start: NaiveDate
     let position = positions(i);
     let goalkeeper = position == "goalkeeper";
     let (mass_lo, mass_hi, h_lo, h_hi) = if male {
-        if goalkeeper { (82.0, 92.0, 186.0, 196.0) } else { (66.0, 86.0, 172.0, 190.0) }
+        if goalkeeper {
+            (82.0, 92.0, 186.0, 196.0)
+        } else {
+            (66.0, 86.0, 172.0, 190.0)
+        }
     } else if goalkeeper {
         (64.0, 74.0, 172.0, 182.0)
     } else {
         (54.0, 68.0, 158.0, 176.0)
     };
-    let year = squad.birth_years.0 + (dice.next() * f64::from(squad.birth_years.1 - squad.birth_years.0)).round() as i32;
+    let year = squad.birth_years.0
+        + (dice.next() * f64::from(squad.birth_years.1 - squad.birth_years.0)).round() as i32;
     let month = 1 + (dice.next() * 11.0) as u32;
     let day = 1 + (dice.next() * 27.0) as u32;
-    let yoyo = if goalkeeper { dice.between(1200.0, 1700.0) } else { dice.between(1800.0, 2800.0) };
+    let yoyo = if goalkeeper {
+        dice.between(1200.0, 1700.0)
+    } else {
+        dice.between(1800.0, 2800.0)
+    };
     let yoyo = (yoyo / 40.0).round() * 40.0;
-    let fat = if male { dice.round1(8.0, 13.5) } else { dice.round1(15.0, 22.0) };
+    let fat = if male {
+        dice.round1(8.0, 13.5)
+    } else {
+        dice.round1(15.0, 22.0)
+    };
     let measured_hr = dice.next() < 0.7;
     let mut input = AthleteInput {
         display_name: format!("{} {}", squad.first[i], squad.last[i]),
@@ -228,7 +401,11 @@ fn athlete_input(squad: &Squad, i: usize, dice: &mut Dice, week_start: NaiveDate
         vo2max: Some(Vo2maxSource::YoYoIr1 { distance_m: yoyo }),
         hr_max: measured_hr.then(|| dice.between(186.0, 203.0).round()),
         hr_rest: measured_hr.then(|| dice.between(44.0, 58.0).round()),
-        training_status: if i % 7 == 6 { TrainingStatus::Trained } else { TrainingStatus::HighlyTrained },
+        training_status: if i % 7 == 6 {
+            TrainingStatus::Trained
+        } else {
+            TrainingStatus::HighlyTrained
+        },
         position_group: Some(position.into()),
         goal: GoalDirection::Maintain,
         goal_rate_kg_per_week: None,
@@ -243,7 +420,8 @@ fn athlete_input(squad: &Squad, i: usize, dice: &mut Dice, week_start: NaiveDate
     if i == 13 {
         input.goal = GoalDirection::Reduce;
         input.goal_rate_kg_per_week = Some(0.4);
-        input.dietary_notes = Some("Planned body-mass reduction agreed with the club dietitian.".into());
+        input.dietary_notes =
+            Some("Planned body-mass reduction agreed with the club dietitian.".into());
     }
     if i == 20 {
         input.dietary_notes = Some("Vegetarian.".into());
@@ -307,11 +485,18 @@ pub async fn load(db: &Db, monday: NaiveDate) -> Result<String, sqlx::Error> {
             let mut input = athlete_input(&squad, i, &mut dice, monday);
             if squad.sex == Sex::Female && i == 8 {
                 input.care_flags = vec![CareFlag::Diabetes];
-                input.dietary_notes = Some("Type 1 diabetes: plan reviewed with her physician.".into());
+                input.dietary_notes =
+                    Some("Type 1 diabetes: plan reviewed with her physician.".into());
             }
-            ids.push(athletes::create(db, DEMO, team.id, &input, monday).await?.id);
+            ids.push(
+                athletes::create(db, DEMO, team.id, &input, monday)
+                    .await?
+                    .id,
+            );
         }
-        let created = sessions::import(db, DEMO, team.id, None, &week).await?.created;
+        let created = sessions::import(db, DEMO, team.id, None, &week)
+            .await?
+            .created;
         // Match day: the first 11 start; two starters go off at 70 minutes,
         // five substitutes come on, the rest of the squad does not play, and
         // one injured player does rehab on the bike instead.
@@ -324,18 +509,51 @@ pub async fn load(db: &Db, monday: NaiveDate) -> Result<String, sqlx::Error> {
                 note: Some(note.into()),
             };
             let mut exceptions: Vec<(usize, ParticipationInput)> = vec![
-                (3, set(ParticipationMode::Shortened, Some(70.0), Some(Portion::FromStart), None, "substituted at 70'")),
-                (12, set(ParticipationMode::Shortened, Some(70.0), Some(Portion::FromStart), None, "substituted at 70'")),
+                (
+                    3,
+                    set(
+                        ParticipationMode::Shortened,
+                        Some(70.0),
+                        Some(Portion::FromStart),
+                        None,
+                        "substituted at 70'",
+                    ),
+                ),
+                (
+                    12,
+                    set(
+                        ParticipationMode::Shortened,
+                        Some(70.0),
+                        Some(Portion::FromStart),
+                        None,
+                        "substituted at 70'",
+                    ),
+                ),
             ];
             for (n, i) in (11..16).enumerate() {
                 let minutes = [25.0, 25.0, 15.0, 10.0, 5.0][n];
                 exceptions.push((
                     (i + 5) % size,
-                    set(ParticipationMode::Shortened, Some(minutes), Some(Portion::UntilEnd), None, "substitute"),
+                    set(
+                        ParticipationMode::Shortened,
+                        Some(minutes),
+                        Some(Portion::UntilEnd),
+                        None,
+                        "substitute",
+                    ),
                 ));
             }
             for i in 17..size.min(22) {
-                exceptions.push((i, set(ParticipationMode::Skipped, None, None, None, "not in the matchday squad")));
+                exceptions.push((
+                    i,
+                    set(
+                        ParticipationMode::Skipped,
+                        None,
+                        None,
+                        None,
+                        "not in the matchday squad",
+                    ),
+                ));
             }
             exceptions.push((
                 size - 1,
@@ -343,17 +561,28 @@ pub async fn load(db: &Db, monday: NaiveDate) -> Result<String, sqlx::Error> {
                     ParticipationMode::Replaced,
                     None,
                     None,
-                    Some(vec![seg("rehab bike", 40.0, Intensity::Cycling { watts: 140.0 })]),
+                    Some(vec![seg(
+                        "rehab bike",
+                        40.0,
+                        Intensity::Cycling { watts: 140.0 },
+                    )]),
                     "hamstring rehab",
                 ),
             ));
             exceptions.sort_by_key(|(i, _)| *i);
             exceptions.dedup_by_key(|(i, _)| *i);
             for (i, input) in exceptions {
-                sessions::put_participation(db, DEMO, team.id, matchday.id, ids[i], None, &input).await?;
+                sessions::put_participation(db, DEMO, team.id, matchday.id, ids[i], None, &input)
+                    .await?;
             }
         }
-        summary.push_str(&format!("  {} ({} athletes, {} sessions): team id {}\n", squad.team, size, created.len(), team.id));
+        summary.push_str(&format!(
+            "  {} ({} athletes, {} sessions): team id {}\n",
+            squad.team,
+            size,
+            created.len(),
+            team.id
+        ));
     }
     Ok(summary)
 }

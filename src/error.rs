@@ -193,7 +193,9 @@ fn constraint_error(db: &dyn sqlx::error::DatabaseError) -> Option<ApiError> {
     let message = db.message();
     let named = |name: &str| message.contains(name) || db.constraint() == Some(name);
     if named("teams_name_unique") || message.contains("teams.name") {
-        return Some(ApiError::Conflict("A team with this name already exists.".into()));
+        return Some(ApiError::Conflict(
+            "A team with this name already exists.".into(),
+        ));
     }
     if named("body_mass_one_per_day") || message.contains("body_mass_measurements.athlete_id") {
         return Some(ApiError::Conflict(
@@ -201,7 +203,10 @@ fn constraint_error(db: &dyn sqlx::error::DatabaseError) -> Option<ApiError> {
         ));
     }
     if db.kind() == sqlx::error::ErrorKind::ForeignKeyViolation {
-        return Some(ApiError::field("", "refers to a record that does not exist"));
+        return Some(ApiError::field(
+            "",
+            "refers to a record that does not exist",
+        ));
     }
     None
 }
@@ -233,8 +238,6 @@ impl IntoResponse for ApiError {
         problem_response(status, body)
     }
 }
-
-
 
 /// Serialises a problem with the right content type. The request id is filled
 /// in by the middleware that owns it.

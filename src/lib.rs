@@ -16,6 +16,7 @@ pub mod domain;
 pub mod engine;
 pub mod error;
 pub mod http;
+pub mod planner;
 pub mod store;
 
 use std::sync::Arc;
@@ -73,8 +74,19 @@ pub fn build_app(state: AppState) -> Router {
         Some(
             CorsLayer::new()
                 .allow_origin(AllowOrigin::list(origins))
-                .allow_methods([Method::GET, Method::POST, Method::PUT, Method::PATCH, Method::DELETE])
-                .allow_headers([header::AUTHORIZATION, header::CONTENT_TYPE, header::IF_MATCH, header::IF_NONE_MATCH])
+                .allow_methods([
+                    Method::GET,
+                    Method::POST,
+                    Method::PUT,
+                    Method::PATCH,
+                    Method::DELETE,
+                ])
+                .allow_headers([
+                    header::AUTHORIZATION,
+                    header::CONTENT_TYPE,
+                    header::IF_MATCH,
+                    header::IF_NONE_MATCH,
+                ])
                 .expose_headers([header::ETAG, header::LOCATION, REQUEST_ID]),
         )
     };
@@ -127,7 +139,9 @@ pub fn build_app(state: AppState) -> Router {
                 tracing::info_span!("request", method = %req.method(), route, request_id)
             }),
         )
-        .layer(SetSensitiveRequestHeadersLayer::new([header::AUTHORIZATION]))
+        .layer(SetSensitiveRequestHeadersLayer::new([
+            header::AUTHORIZATION,
+        ]))
         .layer(PropagateRequestIdLayer::new(REQUEST_ID))
         .layer(SetRequestIdLayer::new(REQUEST_ID, MakeRequestUuid))
 }

@@ -15,7 +15,11 @@ use tokio::net::TcpListener;
 use uuid::Uuid;
 
 #[derive(Parser)]
-#[command(name = "glycoweek", version, about = "Carbohydrate periodization for a squad's planned week")]
+#[command(
+    name = "glycoweek",
+    version,
+    about = "Carbohydrate periodization for a squad's planned week"
+)]
 struct Cli {
     #[command(subcommand)]
     command: Option<Command>,
@@ -99,7 +103,9 @@ async fn main() -> ExitCode {
 fn init_tracing(format: LogFormat) {
     let filter = tracing_subscriber::EnvFilter::try_from_default_env()
         .unwrap_or_else(|_| "info,sqlx=warn,tower_http=info".into());
-    let builder = tracing_subscriber::fmt().with_env_filter(filter).with_writer(std::io::stderr);
+    let builder = tracing_subscriber::fmt()
+        .with_env_filter(filter)
+        .with_writer(std::io::stderr);
     match format {
         LogFormat::Text => builder.init(),
         LogFormat::Json => builder.json().init(),
@@ -115,7 +121,10 @@ async fn serve(args: ServeArgs) -> Result<(), String> {
     init_tracing(config.log_format);
     let db = open(&config.database).await?;
     if args.demo {
-        match demo::load_if_empty(&db).await.map_err(|e| format!("loading the demo failed: {e}"))? {
+        match demo::load_if_empty(&db)
+            .await
+            .map_err(|e| format!("loading the demo failed: {e}"))?
+        {
             Some(summary) => eprintln!("{summary}"),
             None => eprintln!("The database already holds teams; the demo was not loaded again."),
         }
@@ -156,9 +165,18 @@ async fn serve(args: ServeArgs) -> Result<(), String> {
 
 async fn token(cmd: TokenCommand) -> Result<(), String> {
     match cmd {
-        TokenCommand::Create { database, role, team, label } => {
+        TokenCommand::Create {
+            database,
+            role,
+            team,
+            label,
+        } => {
             let db = open(&database).await?;
-            let input = TokenInput { label, role, team_id: team };
+            let input = TokenInput {
+                label,
+                role,
+                team_id: team,
+            };
             input.validate().map_err(|e| {
                 e.issues
                     .iter()
@@ -172,14 +190,19 @@ async fn token(cmd: TokenCommand) -> Result<(), String> {
                     .map_err(|e| e.to_string())?
                     .ok_or_else(|| format!("no team with id {team}"))?;
             }
-            let created = tokens::create(&db, CLI, &input).await.map_err(|e| e.to_string())?;
+            let created = tokens::create(&db, CLI, &input)
+                .await
+                .map_err(|e| e.to_string())?;
             println!("{}", created.secret);
             db.close().await;
             Ok(())
         }
         TokenCommand::Revoke { database, token_id } => {
             let db = open(&database).await?;
-            match tokens::revoke(&db, CLI, token_id).await.map_err(|e| e.to_string())? {
+            match tokens::revoke(&db, CLI, token_id)
+                .await
+                .map_err(|e| e.to_string())?
+            {
                 glycoweek::store::Write::Done(_) => {
                     eprintln!("revoked {token_id}");
                     db.close().await;
@@ -190,14 +213,22 @@ async fn token(cmd: TokenCommand) -> Result<(), String> {
         }
         TokenCommand::List { database } => {
             let db = open(&database).await?;
-            let list = tokens::list(&db, None, None, 10_000).await.map_err(|e| e.to_string())?;
+            let list = tokens::list(&db, None, None, 10_000)
+                .await
+                .map_err(|e| e.to_string())?;
             for t in list {
                 println!(
                     "{}\t{:?}\t{}\t{}\t{}",
                     t.id,
                     t.role,
-                    t.team_id.map(|t| t.to_string()).unwrap_or_else(|| "-".into()),
-                    if t.revoked_at.is_some() { "revoked" } else { "live" },
+                    t.team_id
+                        .map(|t| t.to_string())
+                        .unwrap_or_else(|| "-".into()),
+                    if t.revoked_at.is_some() {
+                        "revoked"
+                    } else {
+                        "live"
+                    },
                     t.label
                 );
             }
@@ -215,8 +246,14 @@ async fn backup(database: PathBuf, to: PathBuf) -> Result<(), String> {
         return Err(format!("{} exists; choose a new file", to.display()));
     }
     let db = open(&database).await?;
-    db.backup(&to).await.map_err(|e| format!("backup failed: {e}"))?;
+    db.backup(&to)
+        .await
+        .map_err(|e| format!("backup failed: {e}"))?;
     db.close().await;
-    eprintln!("wrote a consistent copy of {} to {}", database.display(), to.display());
+    eprintln!(
+        "wrote a consistent copy of {} to {}",
+        database.display(),
+        to.display()
+    );
     Ok(())
 }

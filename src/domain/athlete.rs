@@ -182,20 +182,33 @@ impl AthleteInput {
     }
 }
 
-fn validate_vo2max(issues: &mut Issues, source: &Vo2maxSource, hr_max: Option<f64>, hr_rest: Option<f64>) {
+fn validate_vo2max(
+    issues: &mut Issues,
+    source: &Vo2maxSource,
+    hr_max: Option<f64>,
+    hr_rest: Option<f64>,
+) {
     match source {
-        Vo2maxSource::Measured { ml_per_kg_min } => {
-            issues.range("vo2max.ml_per_kg_min", *ml_per_kg_min, 15.0, 95.0, "mL/kg/min")
-        }
+        Vo2maxSource::Measured { ml_per_kg_min } => issues.range(
+            "vo2max.ml_per_kg_min",
+            *ml_per_kg_min,
+            15.0,
+            95.0,
+            "mL/kg/min",
+        ),
         Vo2maxSource::Cooper12Minute { distance_m } => {
             issues.range("vo2max.distance_m", *distance_m, 1000.0, 5500.0, "m")
         }
         Vo2maxSource::YoYoIr1 { distance_m } => {
             issues.range("vo2max.distance_m", *distance_m, 40.0, 5000.0, "m")
         }
-        Vo2maxSource::Shuttle20m { final_speed_kmh } => {
-            issues.range("vo2max.final_speed_kmh", *final_speed_kmh, 8.0, 20.0, "km/h")
-        }
+        Vo2maxSource::Shuttle20m { final_speed_kmh } => issues.range(
+            "vo2max.final_speed_kmh",
+            *final_speed_kmh,
+            8.0,
+            20.0,
+            "km/h",
+        ),
         Vo2maxSource::HeartRateRatio => {
             if hr_max.is_none() || hr_rest.is_none() {
                 issues.push(

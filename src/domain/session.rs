@@ -4,7 +4,8 @@ use utoipa::ToSchema;
 use uuid::Uuid;
 
 use super::check_text;
-use crate::engine::profile::{Intensity, Segment, SessionKind};
+use crate::engine::intensity::validate_intensity;
+use crate::engine::profile::{Segment, SessionKind};
 use crate::engine::{InvalidInput, Issues};
 
 pub const MAX_SEGMENTS: usize = 40;
@@ -93,50 +94,26 @@ pub fn check_segments(issues: &mut Issues, field: &str, segments: &[Segment]) {
     let mut total = 0.0;
     for (i, segment) in segments.iter().enumerate() {
         let at = format!("{field}[{i}]");
-        issues.range(format!("{at}.minutes"), segment.minutes, 0.5, 600.0, "minutes");
+        issues.range(
+            format!("{at}.minutes"),
+            segment.minutes,
+            0.5,
+            600.0,
+            "minutes",
+        );
         if segment.minutes.is_finite() {
             total += segment.minutes;
         }
         if let Some(label) = &segment.label {
             check_text(issues, &format!("{at}.label"), label, 0, 80);
         }
-        check_intensity(issues, &format!("{at}.intensity"), &segment.intensity);
+        validate_intensity(&segment.intensity, &format!("{at}.intensity"), issues);
     }
     if total > MAX_SESSION_MINUTES {
-        issues.push(field, format!("add up to {total} minutes; at most {MAX_SESSION_MINUTES}"));
-    }
-}
-
-pub fn check_intensity(issues: &mut Issues, at: &str, intensity: &Intensity) {
-    match intensity {
-        Intensity::FractionVo2max { fraction } => {
-            issues.range(format!("{at}.fraction"), *fraction, 0.2, 1.2, "(fraction of VO2max)")
-        }
-        Intensity::HeartRate { bpm } => issues.range(format!("{at}.bpm"), *bpm, 40.0, 230.0, "beats/min"),
-        Intensity::HeartRateReserve { fraction } => {
-            issues.range(format!("{at}.fraction"), *fraction, 0.0, 1.0, "(fraction of heart-rate reserve)")
-        }
-        Intensity::SessionRpe { rating } => {
-            issues.range(format!("{at}.rating"), *rating, 0.0, 10.0, "(CR10 scale)")
-        }
-        Intensity::Mets { mets } => issues.range(format!("{at}.mets"), *mets, 1.0, 25.0, "METs"),
-        Intensity::Activity { activity } => {
-            if crate::engine::catalogue::find(activity).is_none() {
-                issues.push(
-                    format!("{at}.activity"),
-                    "is not a key of the activity catalogue (GET /v1/activities)",
-                );
-            }
-        }
-        Intensity::Running { speed_kmh, grade_percent } => {
-            issues.range(format!("{at}.speed_kmh"), *speed_kmh, 4.0, 30.0, "km/h");
-            issues.range(format!("{at}.grade_percent"), *grade_percent, -15.0, 30.0, "%");
-        }
-        Intensity::Walking { speed_kmh, grade_percent } => {
-            issues.range(format!("{at}.speed_kmh"), *speed_kmh, 1.0, 9.0, "km/h");
-            issues.range(format!("{at}.grade_percent"), *grade_percent, -15.0, 40.0, "%");
-        }
-        Intensity::Cycling { watts } => issues.range(format!("{at}.watts"), *watts, 10.0, 2000.0, "W"),
+        issues.push(
+            field,
+            format!("add up to {total} minutes; at most {MAX_SESSION_MINUTES}"),
+        );
     }
 }
 
@@ -199,7 +176,10 @@ impl SessionImport {
     pub fn validate(&self) -> Result<(), InvalidInput> {
         let mut issues = Issues::default();
         if self.sessions.is_empty() || self.sessions.len() > MAX_IMPORT_SESSIONS {
-            issues.push("sessions", format!("must hold 1 to {MAX_IMPORT_SESSIONS} sessions"));
+            issues.push(
+                "sessions",
+                format!("must hold 1 to {MAX_IMPORT_SESSIONS} sessions"),
+            );
         }
         for (i, session) in self.sessions.iter().enumerate() {
             session.check(&mut issues, &format!("sessions[{i}]."));
@@ -294,7 +274,9 @@ impl ParticipationInput {
                     None => issues.push("minutes", "is required for mode shortened"),
                     Some(m) if !m.is_finite() || m <= 0.0 || m >= session_minutes => issues.push(
                         "minutes",
-                        format!("must be above 0 and below the session's {session_minutes} minutes"),
+                        format!(
+                            "must be above 0 and below the session's {session_minutes} minutes"
+                        ),
                     ),
                     _ => {}
                 }

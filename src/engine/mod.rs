@@ -6,9 +6,44 @@
 //!
 //! Guided tour:
 //! - [`profile`]: the athlete and session inputs the engine understands.
+//! - [`gas_exchange`]: Weir, the Zuntz/Lusk NPRQ table, Frayn and Jeukendrup &
+//!   Wallis substrate equations, energy densities.
+//! - [`catalogue`]: the activity catalogue with Compendium codes and METs.
+//! - [`athlete`]: a profile resolved into VO2max, HRmax and glycogen capacity,
+//!   with the estimates used to fill the gaps.
+//! - [`intensity`]: every intensity form converted to oxygen uptake.
+//! - [`fuel_mix`]: the carbohydrate share of energy by intensity, time,
+//!   training status and muscle glycogen; the science is documented there.
+//! - [`glycogen`]: glycogen capacity and the state a session starts and ends in.
+//! - [`session`]: one athlete's session simulated minute by minute.
+//! - [`day_plan`]: one athlete's day, [`day_plan::plan_day`]: daily targets,
+//!   fuelling around sessions, eating occasions, warnings and cautions.
+//! - [`session_work`]: a session's already computed work, as the day planner reads it.
+//! - [`energy`]: resting metabolic rate, fat-free mass, body-mass goal.
+//! - [`energy_availability`]: energy availability and its bands.
+//! - [`day_targets`]: load bands, daily carbohydrate, protein and fat.
+//! - [`session_fuelling`]: before, during and after each session.
+//! - [`eating_occasions`]: the day's targets as a timeline of eating occasions.
+//! - [`plan_notes`]: warnings with stable codes, and explanations.
+//! - [`hydration`]: sweat-rate calculator, [`hydration::sweat_rate`].
 
+pub mod athlete;
 pub mod catalogue;
+pub mod day_plan;
+pub mod day_targets;
+pub mod eating_occasions;
+pub mod energy;
+pub mod energy_availability;
+pub mod fuel_mix;
+pub mod gas_exchange;
+pub mod glycogen;
+pub mod hydration;
+pub mod intensity;
+pub mod plan_notes;
 pub mod profile;
+pub mod session;
+pub mod session_fuelling;
+pub mod session_work;
 
 use serde::Serialize;
 use utoipa::ToSchema;

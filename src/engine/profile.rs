@@ -69,9 +69,17 @@ pub enum Intensity {
     /// An activity from the catalogue (`GET /v1/activities`), by its key.
     Activity { activity: String },
     /// Running at a speed in km/h on a grade in percent.
-    Running { speed_kmh: f64, #[serde(default)] grade_percent: f64 },
+    Running {
+        speed_kmh: f64,
+        #[serde(default)]
+        grade_percent: f64,
+    },
     /// Walking at a speed in km/h on a grade in percent.
-    Walking { speed_kmh: f64, #[serde(default)] grade_percent: f64 },
+    Walking {
+        speed_kmh: f64,
+        #[serde(default)]
+        grade_percent: f64,
+    },
     /// Leg cycling at an average power in watts.
     Cycling { watts: f64 },
 }

@@ -48,7 +48,9 @@ pub struct AthleteListParams {
 
 /// Load an athlete the caller may see, or 404.
 pub async fn visible_athlete(state: &AppState, caller: &Caller, id: Uuid) -> Result<Athlete> {
-    let athlete = athletes::get(&state.db, id).await?.ok_or(ApiError::NotFound("athlete"))?;
+    let athlete = athletes::get(&state.db, id)
+        .await?
+        .ok_or(ApiError::NotFound("athlete"))?;
     caller.read(athlete.team_id, "athlete")?;
     Ok(athlete)
 }
@@ -65,7 +67,10 @@ async fn list_athletes(
 ) -> Result<Response> {
     caller.read(team_id, "team")?;
     super::visible_team(&state, &caller, team_id).await?;
-    let page = PageParams { limit: q.limit, cursor: q.cursor };
+    let page = PageParams {
+        limit: q.limit,
+        cursor: q.cursor,
+    };
     let limit = page.limit()?;
     let after: Option<(String, Uuid)> = page.after()?;
     let status = match q.status.unwrap_or_default() {
@@ -102,7 +107,11 @@ async fn create_athlete(
     let input = input.normalised();
     input.validate(today, true)?;
     let athlete = athletes::create(&state.db, caller.actor(), team_id, &input, today).await?;
-    Ok(super::created(&format!("/v1/athletes/{}", athlete.id), athlete.version, &athlete))
+    Ok(super::created(
+        &format!("/v1/athletes/{}", athlete.id),
+        athlete.version,
+        &athlete,
+    ))
 }
 
 /// Read an athlete.
@@ -139,10 +148,16 @@ async fn update_athlete(
     input.validate(team_today(&team), false)?;
     if let (Some(ffm), Some(latest)) = (input.fat_free_mass_kg, &current.latest_body_mass) {
         if ffm >= latest.body_mass_kg {
-            return Err(ApiError::field("fat_free_mass_kg", "must be lower than the latest body mass"));
+            return Err(ApiError::field(
+                "fat_free_mass_kg",
+                "must be lower than the latest body mass",
+            ));
         }
     }
-    written(athletes::update(&state.db, caller.actor(), id, expected, &input).await?, "athlete")
+    written(
+        athletes::update(&state.db, caller.actor(), id, expected, &input).await?,
+        "athlete",
+    )
 }
 
 /// Erase an athlete and everything stored about them. To keep history, archive instead.
@@ -157,7 +172,10 @@ async fn delete_athlete(
 ) -> Result<Response> {
     let current = visible_athlete(&state, &caller, id).await?;
     caller.write(current.team_id, "athlete")?;
-    deleted(athletes::delete(&state.db, caller.actor(), id, expected).await?, "athlete")
+    deleted(
+        athletes::delete(&state.db, caller.actor(), id, expected).await?,
+        "athlete",
+    )
 }
 
 #[derive(Debug, Deserialize, IntoParams)]
@@ -183,7 +201,10 @@ async fn list_body_mass(
     QueryParams(q): QueryParams<BodyMassListParams>,
 ) -> Result<Response> {
     visible_athlete(&state, &caller, id).await?;
-    let page = PageParams { limit: q.limit, cursor: q.cursor };
+    let page = PageParams {
+        limit: q.limit,
+        cursor: q.cursor,
+    };
     let limit = page.limit()?;
     let after: Option<(NaiveDate, Uuid)> = page.after()?;
     if let (Some(from), Some(to)) = (q.from, q.to) {
@@ -192,7 +213,10 @@ async fn list_body_mass(
         }
     }
     let items = athletes::list_body_mass(&state.db, id, q.from, q.to, after, limit).await?;
-    Ok(json(StatusCode::OK, &Page::from_overfetch(items, limit, |m| (m.measured_on, m.id))))
+    Ok(json(
+        StatusCode::OK,
+        &Page::from_overfetch(items, limit, |m| (m.measured_on, m.id)),
+    ))
 }
 
 /// Record a body-mass reading (one per athlete and date).
@@ -211,14 +235,26 @@ async fn add_body_mass(
     input.validate(team_today(&team))?;
     if let Some(ffm) = athlete.fat_free_mass_kg {
         if ffm >= input.body_mass_kg {
-            return Err(ApiError::field("body_mass_kg", "must be above the athlete's fat-free mass"));
+            return Err(ApiError::field(
+                "body_mass_kg",
+                "must be above the athlete's fat-free mass",
+            ));
         }
     }
     let mass = athletes::add_body_mass(&state.db, caller.actor(), &athlete, &input).await?;
-    Ok(super::created(&format!("/v1/athletes/{id}/body-mass/{}", mass.id), 1, &mass))
+    Ok(super::created(
+        &format!("/v1/athletes/{id}/body-mass/{}", mass.id),
+        1,
+        &mass,
+    ))
 }
 
-async fn visible_reading(state: &AppState, caller: &Caller, athlete_id: Uuid, reading_id: Uuid) -> Result<(Uuid, BodyMass)> {
+async fn visible_reading(
+    state: &AppState,
+    caller: &Caller,
+    athlete_id: Uuid,
+    reading_id: Uuid,
+) -> Result<(Uuid, BodyMass)> {
     let athlete = visible_athlete(state, caller, athlete_id).await?;
     let mass = athletes::get_body_mass(&state.db, reading_id)
         .await?

@@ -25,7 +25,10 @@ pub struct Caller {
 impl FromRequestParts<AppState> for Caller {
     type Rejection = ApiError;
 
-    async fn from_request_parts(parts: &mut Parts, state: &AppState) -> Result<Self, Self::Rejection> {
+    async fn from_request_parts(
+        parts: &mut Parts,
+        state: &AppState,
+    ) -> Result<Self, Self::Rejection> {
         if let Some(caller) = parts.extensions.get::<Caller>() {
             return Ok(*caller);
         }
@@ -90,7 +93,9 @@ impl Caller {
         if self.is_admin() {
             Ok(())
         } else {
-            Err(ApiError::Forbidden("Only an administrator token may do this."))
+            Err(ApiError::Forbidden(
+                "Only an administrator token may do this.",
+            ))
         }
     }
 }

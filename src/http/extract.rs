@@ -32,11 +32,20 @@ impl<S: Send + Sync, T: DeserializeOwned> FromRequest<S> for JsonBody<T> {
 }
 
 fn is_json(headers: &HeaderMap) -> bool {
-    let Some(value) = headers.get(header::CONTENT_TYPE).and_then(|v| v.to_str().ok()) else {
+    let Some(value) = headers
+        .get(header::CONTENT_TYPE)
+        .and_then(|v| v.to_str().ok())
+    else {
         return false;
     };
-    let essence = value.split(';').next().unwrap_or("").trim().to_ascii_lowercase();
-    essence == "application/json" || (essence.starts_with("application/") && essence.ends_with("+json"))
+    let essence = value
+        .split(';')
+        .next()
+        .unwrap_or("")
+        .trim()
+        .to_ascii_lowercase();
+    essence == "application/json"
+        || (essence.starts_with("application/") && essence.ends_with("+json"))
 }
 
 pub fn parse_json<T: DeserializeOwned>(bytes: &[u8]) -> Result<T, ApiError> {
@@ -52,10 +61,9 @@ pub fn parse_json<T: DeserializeOwned>(bytes: &[u8]) -> Result<T, ApiError> {
                     if path == "." { String::new() } else { path },
                     clean_serde_message(&inner.to_string()),
                 )),
-                Category::Syntax | Category::Eof | Category::Io => Err(ApiError::BadRequest(format!(
-                    "The body is not valid JSON ({}).",
-                    inner
-                ))),
+                Category::Syntax | Category::Eof | Category::Io => Err(ApiError::BadRequest(
+                    format!("The body is not valid JSON ({}).", inner),
+                )),
             }
         }
     }

@@ -54,7 +54,11 @@ pub async fn problems(req: Request, next: Next) -> Response {
 
 fn generic(status: StatusCode) -> serde_json::Value {
     let (slug, title, detail) = match status {
-        StatusCode::NOT_FOUND => ("not-found", "Not found", "No such route. See /openapi.json."),
+        StatusCode::NOT_FOUND => (
+            "not-found",
+            "Not found",
+            "No such route. See /openapi.json.",
+        ),
         StatusCode::METHOD_NOT_ALLOWED => (
             "method-not-allowed",
             "Method not allowed",
@@ -80,7 +84,11 @@ fn generic(status: StatusCode) -> serde_json::Value {
             "Internal error",
             "Something went wrong on our side. The request id identifies it in the logs.",
         ),
-        _ => ("bad-request", "Bad request", "The request could not be processed."),
+        _ => (
+            "bad-request",
+            "Bad request",
+            "The request could not be processed.",
+        ),
     };
     let body = Problem {
         problem_type: format!("/problems/{slug}"),

@@ -6,6 +6,7 @@
 pub mod athletes;
 pub mod auth;
 pub mod extract;
+pub mod fuel;
 pub mod middleware;
 pub mod openapi;
 pub mod sessions;
@@ -37,6 +38,7 @@ pub fn api_router() -> OpenApiRouter<AppState> {
         .merge(athletes::router())
         .merge(sessions::router())
         .merge(tokens::router())
+        .merge(fuel::router())
 }
 
 pub fn json<T: Serialize>(status: StatusCode, body: &T) -> Response {
@@ -46,13 +48,15 @@ pub fn json<T: Serialize>(status: StatusCode, body: &T) -> Response {
 /// A resource with its ETag.
 pub fn versioned<T: Serialize>(version: i64, body: &T) -> Response {
     let mut res = json(StatusCode::OK, body);
-    res.headers_mut().insert(header::ETAG, extract::etag(version));
+    res.headers_mut()
+        .insert(header::ETAG, extract::etag(version));
     res
 }
 
 pub fn created<T: Serialize>(location: &str, version: i64, body: &T) -> Response {
     let mut res = json(StatusCode::CREATED, body);
-    res.headers_mut().insert(header::ETAG, extract::etag(version));
+    res.headers_mut()
+        .insert(header::ETAG, extract::etag(version));
     if let Ok(v) = HeaderValue::from_str(location) {
         res.headers_mut().insert(header::LOCATION, v);
     }
@@ -91,7 +95,10 @@ pub fn deleted(w: Write<()>, what: &'static str) -> Result<Response> {
 
 /// Applies a JSON merge patch (RFC 7396) to the current input shape and
 /// parses the result, so a patch is validated exactly like a create.
-pub fn apply_merge_patch<T: Serialize + DeserializeOwned>(current: &T, patch: &serde_json::Value) -> Result<T> {
+pub fn apply_merge_patch<T: Serialize + DeserializeOwned>(
+    current: &T,
+    patch: &serde_json::Value,
+) -> Result<T> {
     if !patch.is_object() {
         return Err(ApiError::field("", "a merge patch must be a JSON object"));
     }
@@ -147,7 +154,11 @@ pub struct Health {
 #[utoipa::path(get, path = "/health", tag = "service", security(()),
     responses((status = 200, description = "Healthy", body = Health)))]
 async fn health(State(state): State<AppState>) -> Result<Response> {
-    state.db.ping().await.map_err(|_| ApiError::StorageUnavailable)?;
+    state
+        .db
+        .ping()
+        .await
+        .map_err(|_| ApiError::StorageUnavailable)?;
     Ok(json(
         StatusCode::OK,
         &Health {

@@ -26,7 +26,8 @@ use crate::error::Problem;
         (name = "teams", description = "Squads"),
         (name = "athletes", description = "Athletes and body-mass readings"),
         (name = "sessions", description = "The planned week and participation"),
-        (name = "tokens", description = "API tokens")
+        (name = "tokens", description = "API tokens"),
+        (name = "engine", description = "Energy and fuel estimates (estimates, not prescriptions)")
     )
 )]
 struct BaseDoc;
@@ -57,7 +58,9 @@ fn problem(description: &str) -> utoipa::openapi::Response {
         .description(description)
         .content(
             "application/problem+json",
-            ContentBuilder::new().schema(Some(Ref::from_schema_name("Problem"))).build(),
+            ContentBuilder::new()
+                .schema(Some(Ref::from_schema_name("Problem")))
+                .build(),
         )
         .build()
 }
@@ -85,7 +88,10 @@ impl Modify for Problems {
                 };
                 add("408", "The request took too long");
                 add("500", "Internal error (logged; no details are sent)");
-                add("503", "Storage busy or unavailable; retry after `Retry-After` seconds");
+                add(
+                    "503",
+                    "Storage busy or unavailable; retry after `Retry-After` seconds",
+                );
                 if public {
                     continue;
                 }
@@ -102,7 +108,10 @@ impl Modify for Problems {
                     add("415", "Body is not JSON");
                 }
                 if matches!(method, "patch" | "put" | "delete") && has_params {
-                    add("412", "`If-Match` names a version that is no longer current");
+                    add(
+                        "412",
+                        "`If-Match` names a version that is no longer current",
+                    );
                 }
             }
         }

@@ -29,7 +29,11 @@ pub fn router() -> OpenApiRouter<AppState> {
         .routes(routes!(import_sessions))
         .routes(routes!(get_session, update_session, delete_session))
         .routes(routes!(list_participation))
-        .routes(routes!(get_participation, put_participation, delete_participation))
+        .routes(routes!(
+            get_participation,
+            put_participation,
+            delete_participation
+        ))
 }
 
 #[derive(Debug, Deserialize, IntoParams)]
@@ -51,7 +55,9 @@ const EARLIEST: NaiveDate = NaiveDate::from_ymd_opt(1900, 1, 1).expect("valid");
 const LATEST: NaiveDate = NaiveDate::from_ymd_opt(9999, 12, 31).expect("valid");
 
 pub async fn visible_session(state: &AppState, caller: &Caller, id: Uuid) -> Result<Session> {
-    let session = sessions::get(&state.db, id).await?.ok_or(ApiError::NotFound("session"))?;
+    let session = sessions::get(&state.db, id)
+        .await?
+        .ok_or(ApiError::NotFound("session"))?;
     caller.read(session.team_id, "session")?;
     Ok(session)
 }
@@ -68,7 +74,10 @@ async fn list_sessions(
 ) -> Result<Response> {
     caller.read(team_id, "team")?;
     super::visible_team(&state, &caller, team_id).await?;
-    let page = PageParams { limit: q.limit, cursor: q.cursor };
+    let page = PageParams {
+        limit: q.limit,
+        cursor: q.cursor,
+    };
     let limit = page.limit()?;
     let after: Option<SessionKey> = page.after()?;
     let from = q.from.unwrap_or(EARLIEST);
@@ -78,7 +87,10 @@ async fn list_sessions(
     }
     let kind = q.kind.map(|k| crate::domain::label_of(&k));
     let items = sessions::list(&state.db, team_id, (from, to), kind, after, limit).await?;
-    Ok(json(StatusCode::OK, &Page::from_overfetch(items, limit, key_of)))
+    Ok(json(
+        StatusCode::OK,
+        &Page::from_overfetch(items, limit, key_of),
+    ))
 }
 
 /// Plan a session.
@@ -106,7 +118,11 @@ async fn create_session(
     let input = input.normalised();
     input.validate()?;
     let session = sessions::create(&state.db, caller.actor(), team_id, &input).await?;
-    Ok(super::created(&format!("/v1/sessions/{}", session.id), session.version, &session))
+    Ok(super::created(
+        &format!("/v1/sessions/{}", session.id),
+        session.version,
+        &session,
+    ))
 }
 
 /// Import many sessions (e.g. a week) all or nothing. With `replace`, the
@@ -132,13 +148,23 @@ async fn import_sessions(
 ) -> Result<Response> {
     caller.write(team_id, "team")?;
     super::visible_team(&state, &caller, team_id).await?;
-    let SessionImport { replace, sessions: inputs } = input;
+    let SessionImport {
+        replace,
+        sessions: inputs,
+    } = input;
     let import = SessionImport {
         replace,
         sessions: inputs.into_iter().map(SessionInput::normalised).collect(),
     };
     import.validate()?;
-    let result = sessions::import(&state.db, caller.actor(), team_id, import.replace, &import.sessions).await?;
+    let result = sessions::import(
+        &state.db,
+        caller.actor(),
+        team_id,
+        import.replace,
+        &import.sessions,
+    )
+    .await?;
     Ok(json(StatusCode::CREATED, &result))
 }
 
@@ -173,7 +199,10 @@ async fn update_session(
     let input: SessionInput = apply_merge_patch(&current.input(), &patch)?;
     let input = input.normalised();
     input.validate()?;
-    written(sessions::update(&state.db, caller.actor(), id, expected, &input).await?, "session")
+    written(
+        sessions::update(&state.db, caller.actor(), id, expected, &input).await?,
+        "session",
+    )
 }
 
 /// Delete a session.
@@ -188,7 +217,10 @@ async fn delete_session(
 ) -> Result<Response> {
     let current = visible_session(&state, &caller, id).await?;
     caller.write(current.team_id, "session")?;
-    deleted(sessions::delete(&state.db, caller.actor(), id, expected).await?, "session")
+    deleted(
+        sessions::delete(&state.db, caller.actor(), id, expected).await?,
+        "session",
+    )
 }
 
 /// The participation exceptions of a session; athletes not listed take full part.
@@ -205,7 +237,12 @@ async fn list_participation(
     Ok(json(StatusCode::OK, &items))
 }
 
-async fn session_and_athlete(state: &AppState, caller: &Caller, session_id: Uuid, athlete_id: Uuid) -> Result<Session> {
+async fn session_and_athlete(
+    state: &AppState,
+    caller: &Caller,
+    session_id: Uuid,
+    athlete_id: Uuid,
+) -> Result<Session> {
     let session = visible_session(state, caller, session_id).await?;
     let athlete = visible_athlete(state, caller, athlete_id).await?;
     if athlete.team_id != session.team_id {
@@ -246,8 +283,16 @@ async fn put_participation(
     caller.write(session.team_id, "session")?;
     input.validate(session.total_minutes)?;
     written(
-        sessions::put_participation(&state.db, caller.actor(), session.team_id, session_id, athlete_id, expected, &input)
-            .await?,
+        sessions::put_participation(
+            &state.db,
+            caller.actor(),
+            session.team_id,
+            session_id,
+            athlete_id,
+            expected,
+            &input,
+        )
+        .await?,
         "participation exception",
     )
 }
@@ -265,8 +310,15 @@ async fn delete_participation(
     let session = session_and_athlete(&state, &caller, session_id, athlete_id).await?;
     caller.write(session.team_id, "session")?;
     deleted(
-        sessions::delete_participation(&state.db, caller.actor(), session.team_id, session_id, athlete_id, expected)
-            .await?,
+        sessions::delete_participation(
+            &state.db,
+            caller.actor(),
+            session.team_id,
+            session_id,
+            athlete_id,
+            expected,
+        )
+        .await?,
         "participation exception",
     )
 }

@@ -39,11 +39,17 @@ async fn list_teams(
     caller: Caller,
     QueryParams(q): QueryParams<TeamListParams>,
 ) -> Result<Response> {
-    let page = PageParams { limit: q.limit, cursor: q.cursor };
+    let page = PageParams {
+        limit: q.limit,
+        cursor: q.cursor,
+    };
     let limit = page.limit()?;
     let after: Option<Uuid> = page.after()?;
     let items = teams::list(&state.db, caller.scope(), after, limit).await?;
-    Ok(json(StatusCode::OK, &Page::from_overfetch(items, limit, |t| t.id)))
+    Ok(json(
+        StatusCode::OK,
+        &Page::from_overfetch(items, limit, |t| t.id),
+    ))
 }
 
 /// Create a team (administrators only).
@@ -72,7 +78,9 @@ async fn get_team(
     PathIds(team_id): PathIds<Uuid>,
 ) -> Result<Response> {
     caller.read(team_id, "team")?;
-    let team = teams::get(&state.db, team_id).await?.ok_or(ApiError::NotFound("team"))?;
+    let team = teams::get(&state.db, team_id)
+        .await?
+        .ok_or(ApiError::NotFound("team"))?;
     Ok(versioned(team.version, &team))
 }
 
@@ -89,11 +97,16 @@ async fn update_team(
     JsonBody(patch): JsonBody<serde_json::Value>,
 ) -> Result<Response> {
     caller.admin().or_else(|_| caller.write(team_id, "team"))?;
-    let current = teams::get(&state.db, team_id).await?.ok_or(ApiError::NotFound("team"))?;
+    let current = teams::get(&state.db, team_id)
+        .await?
+        .ok_or(ApiError::NotFound("team"))?;
     let input: TeamInput = apply_merge_patch(&current.input(), &patch)?;
     let input = input.normalised();
     input.validate()?;
-    written(teams::update(&state.db, caller.actor(), team_id, expected, &input).await?, "team")
+    written(
+        teams::update(&state.db, caller.actor(), team_id, expected, &input).await?,
+        "team",
+    )
 }
 
 /// Delete a team and everything it holds.
@@ -108,5 +121,8 @@ async fn delete_team(
 ) -> Result<Response> {
     caller.read(team_id, "team")?;
     caller.admin()?;
-    deleted(teams::delete(&state.db, caller.actor(), team_id, expected).await?, "team")
+    deleted(
+        teams::delete(&state.db, caller.actor(), team_id, expected).await?,
+        "team",
+    )
 }

@@ -56,11 +56,17 @@ async fn list_tokens(
     if !caller.is_admin() {
         caller.write(caller.team_id.unwrap_or_default(), "token")?;
     }
-    let page = PageParams { limit: q.limit, cursor: q.cursor };
+    let page = PageParams {
+        limit: q.limit,
+        cursor: q.cursor,
+    };
     let limit = page.limit()?;
     let after: Option<Uuid> = page.after()?;
     let items = tokens::list(&state.db, caller.scope(), after, limit).await?;
-    Ok(json(StatusCode::OK, &Page::from_overfetch(items, limit, |t| t.id)))
+    Ok(json(
+        StatusCode::OK,
+        &Page::from_overfetch(items, limit, |t| t.id),
+    ))
 }
 
 /// Create a token. The secret is in this response only.
@@ -87,7 +93,9 @@ async fn create_token(
 }
 
 async fn visible_token(state: &AppState, caller: &Caller, id: Uuid) -> Result<TokenInfo> {
-    let info = tokens::get(&state.db, id).await?.ok_or(ApiError::NotFound("token"))?;
+    let info = tokens::get(&state.db, id)
+        .await?
+        .ok_or(ApiError::NotFound("token"))?;
     may_manage(caller, info.team_id).map_err(|e| match e {
         ApiError::Forbidden(_) if info.team_id != caller.team_id => ApiError::NotFound("token"),
         other => other,
@@ -144,7 +152,11 @@ async fn list_audit(
     QueryParams(q): QueryParams<AuditParams>,
 ) -> Result<Response> {
     caller.write(team_id, "team")?;
-    let limit = PageParams { limit: q.limit, cursor: None }.limit()?;
+    let limit = PageParams {
+        limit: q.limit,
+        cursor: None,
+    }
+    .limit()?;
     let entries = audit::list(&state.db.read, Some(team_id), q.after.unwrap_or(0), limit).await?;
     Ok(json(StatusCode::OK, &entries))
 }

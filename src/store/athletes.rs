@@ -6,7 +6,9 @@ use uuid::Uuid;
 
 use super::audit::{self, Action, Actor, Entry};
 use super::{Db, Write, from_json, label, now_text, parse_instant, to_json};
-use crate::domain::athlete::{Athlete, AthleteInput, AthleteStatus, BodyMass, BodyMassInput, LatestBodyMass};
+use crate::domain::athlete::{
+    Athlete, AthleteInput, AthleteStatus, BodyMass, BodyMassInput, LatestBodyMass,
+};
 use crate::domain::label_of;
 
 struct AthleteRow {
@@ -100,7 +102,10 @@ fn audit_view(a: &Athlete) -> serde_json::Value {
     serde_json::to_value(a).unwrap_or_default()
 }
 
-async fn fetch_in(conn: &mut sqlx::SqliteConnection, id: Uuid) -> Result<Option<Athlete>, sqlx::Error> {
+async fn fetch_in(
+    conn: &mut sqlx::SqliteConnection,
+    id: Uuid,
+) -> Result<Option<Athlete>, sqlx::Error> {
     let id = id.to_string();
     sqlx::query_as!(
         AthleteRow,
@@ -147,9 +152,7 @@ pub async fn list(
         StatusFilter::Only(s) => Some(label_of(&s)),
         StatusFilter::All => None,
     };
-    let (after_name, after_id) = after
-        .map(|(n, i)| (n, i.to_string()))
-        .unwrap_or_default();
+    let (after_name, after_id) = after.map(|(n, i)| (n, i.to_string())).unwrap_or_default();
     let limit = i64::from(limit) + 1;
     sqlx::query_as!(
         AthleteRow,
@@ -232,7 +235,9 @@ pub async fn create(
         )
         .await?;
     }
-    let athlete = fetch_in(&mut tx, id).await?.ok_or(sqlx::Error::RowNotFound)?;
+    let athlete = fetch_in(&mut tx, id)
+        .await?
+        .ok_or(sqlx::Error::RowNotFound)?;
     audit::record(
         &mut tx,
         actor,
@@ -295,7 +300,9 @@ pub async fn update(
     )
     .execute(&mut *tx)
     .await?;
-    let after = fetch_in(&mut tx, id).await?.ok_or(sqlx::Error::RowNotFound)?;
+    let after = fetch_in(&mut tx, id)
+        .await?
+        .ok_or(sqlx::Error::RowNotFound)?;
     audit::record(
         &mut tx,
         actor,
@@ -316,7 +323,12 @@ pub async fn update(
 /// Erases an athlete and everything stored about them. The audit trail keeps
 /// that it happened, not the values.
 #[instrument(skip_all)]
-pub async fn delete(db: &Db, actor: Actor, id: Uuid, expected: Option<i64>) -> Result<Write<()>, sqlx::Error> {
+pub async fn delete(
+    db: &Db,
+    actor: Actor,
+    id: Uuid,
+    expected: Option<i64>,
+) -> Result<Write<()>, sqlx::Error> {
     let mut tx = db.begin_write().await?;
     let Some(before) = fetch_in(&mut tx, id).await? else {
         return Ok(Write::NotFound);
@@ -367,7 +379,11 @@ impl MassRow {
     }
 }
 
-async fn insert_mass(tx: &mut super::Tx, athlete_id: Uuid, input: &BodyMassInput) -> Result<Uuid, sqlx::Error> {
+async fn insert_mass(
+    tx: &mut super::Tx,
+    athlete_id: Uuid,
+    input: &BodyMassInput,
+) -> Result<Uuid, sqlx::Error> {
     let id = Uuid::now_v7();
     let id_text = id.to_string();
     let athlete = athlete_id.to_string();
@@ -388,7 +404,10 @@ async fn insert_mass(tx: &mut super::Tx, athlete_id: Uuid, input: &BodyMassInput
     Ok(id)
 }
 
-async fn fetch_mass(conn: &mut sqlx::SqliteConnection, id: Uuid) -> Result<Option<BodyMass>, sqlx::Error> {
+async fn fetch_mass(
+    conn: &mut sqlx::SqliteConnection,
+    id: Uuid,
+) -> Result<Option<BodyMass>, sqlx::Error> {
     let id = id.to_string();
     sqlx::query_as!(
         MassRow,
@@ -410,7 +429,9 @@ pub async fn add_body_mass(
 ) -> Result<BodyMass, sqlx::Error> {
     let mut tx = db.begin_write().await?;
     let id = insert_mass(&mut tx, athlete.id, input).await?;
-    let mass = fetch_mass(&mut tx, id).await?.ok_or(sqlx::Error::RowNotFound)?;
+    let mass = fetch_mass(&mut tx, id)
+        .await?
+        .ok_or(sqlx::Error::RowNotFound)?;
     audit::record(
         &mut tx,
         actor,
@@ -445,8 +466,12 @@ pub async fn list_body_mass(
     limit: u32,
 ) -> Result<Vec<BodyMass>, sqlx::Error> {
     let athlete = athlete_id.to_string();
-    let from = from.map(|d| d.to_string()).unwrap_or_else(|| "0000-00-00".into());
-    let to = to.map(|d| d.to_string()).unwrap_or_else(|| "9999-99-99".into());
+    let from = from
+        .map(|d| d.to_string())
+        .unwrap_or_else(|| "0000-00-00".into());
+    let to = to
+        .map(|d| d.to_string())
+        .unwrap_or_else(|| "9999-99-99".into());
     let (after_on, after_id) = after
         .map(|(d, i)| (d.to_string(), i.to_string()))
         .unwrap_or_else(|| ("9999-99-99".into(), String::new()));
@@ -473,7 +498,12 @@ pub async fn list_body_mass(
 }
 
 #[instrument(skip_all)]
-pub async fn delete_body_mass(db: &Db, actor: Actor, team_id: Uuid, mass: &BodyMass) -> Result<(), sqlx::Error> {
+pub async fn delete_body_mass(
+    db: &Db,
+    actor: Actor,
+    team_id: Uuid,
+    mass: &BodyMass,
+) -> Result<(), sqlx::Error> {
     let mut tx = db.begin_write().await?;
     let id = mass.id.to_string();
     sqlx::query!("DELETE FROM body_mass_measurements WHERE id = ?", id)
@@ -515,6 +545,12 @@ pub async fn team_body_mass_up_to(
     .fetch_all(&db.read)
     .await?;
     rows.into_iter()
-        .map(|r| Ok((super::uuid(&r.athlete_id)?, super::date(&r.measured_on)?, r.body_mass_kg)))
+        .map(|r| {
+            Ok((
+                super::uuid(&r.athlete_id)?,
+                super::date(&r.measured_on)?,
+                r.body_mass_kg,
+            ))
+        })
         .collect()
 }

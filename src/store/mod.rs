@@ -17,7 +17,9 @@ use std::str::FromStr;
 use std::time::Duration;
 
 use chrono::{DateTime, SecondsFormat, Utc};
-use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePool, SqlitePoolOptions, SqliteSynchronous};
+use sqlx::sqlite::{
+    SqliteConnectOptions, SqliteJournalMode, SqlitePool, SqlitePoolOptions, SqliteSynchronous,
+};
 use sqlx::{Sqlite, Transaction};
 
 pub type Tx = Transaction<'static, Sqlite>;
@@ -31,7 +33,11 @@ pub enum OpenError {
     #[error(
         "database {path} was written by a newer glycoweek (schema version {found}, this build knows up to {known}); refusing to start. Upgrade glycoweek or restore a backup."
     )]
-    NewerSchema { path: PathBuf, found: i64, known: i64 },
+    NewerSchema {
+        path: PathBuf,
+        found: i64,
+        known: i64,
+    },
     #[error("cannot migrate database {path}: {source}")]
     Migrate {
         path: PathBuf,
@@ -48,7 +54,10 @@ pub struct Db {
 impl Db {
     /// Opens (creating if missing) and migrates the database at `path`.
     pub async fn open(path: &Path) -> Result<Self, OpenError> {
-        let open_err = |source| OpenError::Open { path: path.to_owned(), source };
+        let open_err = |source| OpenError::Open {
+            path: path.to_owned(),
+            source,
+        };
         let options = SqliteConnectOptions::from_str("sqlite:")
             .map_err(open_err)?
             .filename(path)
@@ -64,10 +73,13 @@ impl Db {
             .await
             .map_err(open_err)?;
         check_schema_not_newer(&write, path).await?;
-        MIGRATOR.run(&write).await.map_err(|source| OpenError::Migrate {
-            path: path.to_owned(),
-            source,
-        })?;
+        MIGRATOR
+            .run(&write)
+            .await
+            .map_err(|source| OpenError::Migrate {
+                path: path.to_owned(),
+                source,
+            })?;
         let read = SqlitePoolOptions::new()
             .max_connections(4)
             .acquire_timeout(Duration::from_secs(10))
@@ -94,7 +106,10 @@ impl Db {
 
     /// Liveness and readiness: the database answers a query.
     pub async fn ping(&self) -> Result<(), sqlx::Error> {
-        sqlx::query("SELECT 1").execute(&self.read).await.map(|_| ())
+        sqlx::query("SELECT 1")
+            .execute(&self.read)
+            .await
+            .map(|_| ())
     }
 
     pub async fn close(&self) {
@@ -112,14 +127,20 @@ async fn check_schema_not_newer(pool: &SqlitePool, path: &Path) -> Result<(), Op
     )
     .fetch_optional(pool)
     .await
-    .map_err(|source| OpenError::Open { path: path.to_owned(), source })?;
+    .map_err(|source| OpenError::Open {
+        path: path.to_owned(),
+        source,
+    })?;
     if has_table.is_none() {
         return Ok(());
     }
     let found: Option<i64> = sqlx::query_scalar("SELECT MAX(version) FROM _sqlx_migrations")
         .fetch_one(pool)
         .await
-        .map_err(|source| OpenError::Open { path: path.to_owned(), source })?;
+        .map_err(|source| OpenError::Open {
+            path: path.to_owned(),
+            source,
+        })?;
     match found {
         Some(found) if found > known => Err(OpenError::NewerSchema {
             path: path.to_owned(),

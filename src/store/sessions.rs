@@ -56,7 +56,10 @@ fn audit_view(s: &Session) -> serde_json::Value {
     serde_json::to_value(s).unwrap_or_default()
 }
 
-async fn fetch_in(conn: &mut sqlx::SqliteConnection, id: Uuid) -> Result<Option<Session>, sqlx::Error> {
+async fn fetch_in(
+    conn: &mut sqlx::SqliteConnection,
+    id: Uuid,
+) -> Result<Option<Session>, sqlx::Error> {
     let id = id.to_string();
     sqlx::query_as!(
         SessionRow,
@@ -128,7 +131,11 @@ pub async fn list(
 
 /// Every session of a team in a date span (for planning), in calendar order.
 #[instrument(skip_all)]
-pub async fn all_in_span(db: &Db, team_id: Uuid, span: (NaiveDate, NaiveDate)) -> Result<Vec<Session>, sqlx::Error> {
+pub async fn all_in_span(
+    db: &Db,
+    team_id: Uuid,
+    span: (NaiveDate, NaiveDate),
+) -> Result<Vec<Session>, sqlx::Error> {
     let team = team_id.to_string();
     let from = span.0.to_string();
     let to = span.1.to_string();
@@ -182,10 +189,17 @@ async fn insert(tx: &mut Tx, team_id: Uuid, input: &SessionInput) -> Result<Uuid
 }
 
 #[instrument(skip_all)]
-pub async fn create(db: &Db, actor: Actor, team_id: Uuid, input: &SessionInput) -> Result<Session, sqlx::Error> {
+pub async fn create(
+    db: &Db,
+    actor: Actor,
+    team_id: Uuid,
+    input: &SessionInput,
+) -> Result<Session, sqlx::Error> {
     let mut tx = db.begin_write().await?;
     let id = insert(&mut tx, team_id, input).await?;
-    let session = fetch_in(&mut tx, id).await?.ok_or(sqlx::Error::RowNotFound)?;
+    let session = fetch_in(&mut tx, id)
+        .await?
+        .ok_or(sqlx::Error::RowNotFound)?;
     audit::record(
         &mut tx,
         actor,
@@ -232,7 +246,11 @@ pub async fn import(
     let mut created = Vec::with_capacity(sessions.len());
     for input in sessions {
         let id = insert(&mut tx, team_id, input).await?;
-        created.push(fetch_in(&mut tx, id).await?.ok_or(sqlx::Error::RowNotFound)?);
+        created.push(
+            fetch_in(&mut tx, id)
+                .await?
+                .ok_or(sqlx::Error::RowNotFound)?,
+        );
     }
     audit::record(
         &mut tx,
@@ -292,7 +310,9 @@ pub async fn update(
     )
     .execute(&mut *tx)
     .await?;
-    let after = fetch_in(&mut tx, id).await?.ok_or(sqlx::Error::RowNotFound)?;
+    let after = fetch_in(&mut tx, id)
+        .await?
+        .ok_or(sqlx::Error::RowNotFound)?;
     audit::record(
         &mut tx,
         actor,
@@ -311,7 +331,12 @@ pub async fn update(
 }
 
 #[instrument(skip_all)]
-pub async fn delete(db: &Db, actor: Actor, id: Uuid, expected: Option<i64>) -> Result<Write<()>, sqlx::Error> {
+pub async fn delete(
+    db: &Db,
+    actor: Actor,
+    id: Uuid,
+    expected: Option<i64>,
+) -> Result<Write<()>, sqlx::Error> {
     let mut tx = db.begin_write().await?;
     let Some(before) = fetch_in(&mut tx, id).await? else {
         return Ok(Write::NotFound);
@@ -400,7 +425,10 @@ pub async fn get_participation(
 
 /// The participation exceptions of one session.
 #[instrument(skip_all)]
-pub async fn list_participation(db: &Db, session_id: Uuid) -> Result<Vec<Participation>, sqlx::Error> {
+pub async fn list_participation(
+    db: &Db,
+    session_id: Uuid,
+) -> Result<Vec<Participation>, sqlx::Error> {
     let session = session_id.to_string();
     sqlx::query_as!(
         ParticipationRow,
@@ -491,7 +519,11 @@ pub async fn put_participation(
         actor,
         Entry {
             team_id: Some(team_id),
-            action: if before.is_some() { Action::Update } else { Action::Create },
+            action: if before.is_some() {
+                Action::Update
+            } else {
+                Action::Create
+            },
             entity_type: "participation",
             entity_id: format!("{session_id}/{athlete_id}"),
             before: before.map(|b| serde_json::to_value(b).unwrap_or_default()),

@@ -25,7 +25,9 @@ pub async fn create(db: &Db, actor: Actor, input: &TeamInput) -> Result<Team, sq
     )
     .execute(&mut *tx)
     .await?;
-    let team = fetch_in(&mut tx, id).await?.ok_or(sqlx::Error::RowNotFound)?;
+    let team = fetch_in(&mut tx, id)
+        .await?
+        .ok_or(sqlx::Error::RowNotFound)?;
     audit::record(
         &mut tx,
         actor,
@@ -141,7 +143,9 @@ pub async fn update(
     )
     .execute(&mut *tx)
     .await?;
-    let after = fetch_in(&mut tx, id).await?.ok_or(sqlx::Error::RowNotFound)?;
+    let after = fetch_in(&mut tx, id)
+        .await?
+        .ok_or(sqlx::Error::RowNotFound)?;
     audit::record(
         &mut tx,
         actor,

@@ -47,7 +47,11 @@ impl TokenRow {
 }
 
 #[instrument(skip_all)]
-pub async fn create(db: &Db, actor: Actor, input: &TokenInput) -> Result<CreatedToken, sqlx::Error> {
+pub async fn create(
+    db: &Db,
+    actor: Actor,
+    input: &TokenInput,
+) -> Result<CreatedToken, sqlx::Error> {
     let id = Uuid::now_v7();
     let id_text = id.to_string();
     let secret = new_secret();
@@ -67,7 +71,9 @@ pub async fn create(db: &Db, actor: Actor, input: &TokenInput) -> Result<Created
     )
     .execute(&mut *tx)
     .await?;
-    let info = fetch_in(&mut tx, id).await?.ok_or(sqlx::Error::RowNotFound)?;
+    let info = fetch_in(&mut tx, id)
+        .await?
+        .ok_or(sqlx::Error::RowNotFound)?;
     audit::record(
         &mut tx,
         actor,
@@ -85,7 +91,10 @@ pub async fn create(db: &Db, actor: Actor, input: &TokenInput) -> Result<Created
     Ok(CreatedToken { info, secret })
 }
 
-async fn fetch_in(conn: &mut sqlx::SqliteConnection, id: Uuid) -> Result<Option<TokenInfo>, sqlx::Error> {
+async fn fetch_in(
+    conn: &mut sqlx::SqliteConnection,
+    id: Uuid,
+) -> Result<Option<TokenInfo>, sqlx::Error> {
     let id = id.to_string();
     sqlx::query_as!(
         TokenRow,
@@ -121,7 +130,12 @@ pub async fn authenticate(db: &Db, secret: &str) -> Result<Option<TokenInfo>, sq
 }
 
 #[instrument(skip_all)]
-pub async fn list(db: &Db, team: Option<Uuid>, after: Option<Uuid>, limit: u32) -> Result<Vec<TokenInfo>, sqlx::Error> {
+pub async fn list(
+    db: &Db,
+    team: Option<Uuid>,
+    after: Option<Uuid>,
+    limit: u32,
+) -> Result<Vec<TokenInfo>, sqlx::Error> {
     let team = team.map(|t| t.to_string());
     let after = after.map(|t| t.to_string()).unwrap_or_default();
     let limit = i64::from(limit) + 1;
@@ -157,7 +171,9 @@ pub async fn revoke(db: &Db, actor: Actor, id: Uuid) -> Result<Write<TokenInfo>,
     )
     .execute(&mut *tx)
     .await?;
-    let after = fetch_in(&mut tx, id).await?.ok_or(sqlx::Error::RowNotFound)?;
+    let after = fetch_in(&mut tx, id)
+        .await?
+        .ok_or(sqlx::Error::RowNotFound)?;
     audit::record(
         &mut tx,
         actor,

@@ -4,4 +4,12 @@
 
 mod helpers;
 
+mod athletes;
 mod basics;
+mod durability;
+mod malformed;
+mod participation;
+mod security;
+mod sessions;
+mod teams;
+mod versions;
