@@ -6,7 +6,7 @@
 use chrono::{Datelike, Days, NaiveDate, NaiveTime, Utc};
 use uuid::Uuid;
 
-use crate::domain::athlete::{AthleteInput, AthleteStatus, CareFlag, InitialBodyMass};
+use crate::domain::athlete::{AthleteInput, AthleteStatus, HealthFlag, InitialBodyMass};
 use crate::domain::session::{ParticipationInput, ParticipationMode, Portion, SessionInput};
 use crate::domain::team::TeamInput;
 use crate::engine::profile::{
@@ -410,7 +410,7 @@ fn athlete_input(squad: &Squad, i: usize, dice: &mut Dice, week_start: NaiveDate
         goal: GoalDirection::Maintain,
         goal_rate_kg_per_week: None,
         dietary_notes: None,
-        care_flags: Vec::new(),
+        health_flags: Vec::new(),
         status: AthleteStatus::Active,
         initial_body_mass: Some(InitialBodyMass {
             body_mass_kg: dice.round1(mass_lo, mass_hi),
@@ -484,7 +484,7 @@ pub async fn load(db: &Db, monday: NaiveDate) -> Result<String, sqlx::Error> {
         for i in 0..size {
             let mut input = athlete_input(&squad, i, &mut dice, monday);
             if squad.sex == Sex::Female && i == 8 {
-                input.care_flags = vec![CareFlag::Diabetes];
+                input.health_flags = vec![HealthFlag::Diabetes];
                 input.dietary_notes =
                     Some("Type 1 diabetes: plan reviewed with her physician.".into());
             }

@@ -4,20 +4,9 @@ use utoipa::ToSchema;
 use uuid::Uuid;
 
 use super::check_text;
+pub use crate::engine::day_plan::HealthFlag;
 use crate::engine::profile::{GoalDirection, Sex, TrainingStatus, Vo2maxSource};
 use crate::engine::{InvalidInput, Issues};
-
-/// Conditions that make any plan for the athlete a matter for a clinician.
-/// The plan is still computed, but it carries a caution that defers to a
-/// registered dietitian or physician.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, ToSchema)]
-#[serde(rename_all = "snake_case")]
-pub enum CareFlag {
-    Pregnancy,
-    Diabetes,
-    DisorderedEatingHistory,
-    OtherMedicalCondition,
-}
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, ToSchema, Default)]
 #[serde(rename_all = "snake_case")]
@@ -72,8 +61,10 @@ pub struct AthleteInput {
     pub goal_rate_kg_per_week: Option<f64>,
     #[serde(default)]
     pub dietary_notes: Option<String>,
+    /// Conditions the adult-athlete targets do not cover; each adds a
+    /// caution deferring to a registered dietitian or physician.
     #[serde(default)]
-    pub care_flags: Vec<CareFlag>,
+    pub health_flags: Vec<HealthFlag>,
     #[serde(default)]
     pub status: AthleteStatus,
     /// Required when creating; body mass is then kept as dated readings
@@ -176,8 +167,8 @@ impl AthleteInput {
             .position_group
             .map(|p| p.trim().to_owned())
             .filter(|p| !p.is_empty());
-        self.care_flags.sort_by_key(|f| *f as u8);
-        self.care_flags.dedup();
+        self.health_flags.sort_by_key(|f| *f as u8);
+        self.health_flags.dedup();
         self
     }
 }
@@ -258,7 +249,7 @@ pub struct Athlete {
     pub goal: GoalDirection,
     pub goal_rate_kg_per_week: Option<f64>,
     pub dietary_notes: Option<String>,
-    pub care_flags: Vec<CareFlag>,
+    pub health_flags: Vec<HealthFlag>,
     pub status: AthleteStatus,
     pub latest_body_mass: Option<LatestBodyMass>,
     pub version: i64,
@@ -283,7 +274,7 @@ impl Athlete {
             goal: self.goal,
             goal_rate_kg_per_week: self.goal_rate_kg_per_week,
             dietary_notes: self.dietary_notes.clone(),
-            care_flags: self.care_flags.clone(),
+            health_flags: self.health_flags.clone(),
             status: self.status,
             initial_body_mass: None,
         }

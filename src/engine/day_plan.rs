@@ -930,6 +930,99 @@ fn safety_notes(
     }
 }
 
+impl PlanSettings {
+    /// Adds every out-of-range setting to `issues`, named under `prefix`.
+    pub fn validate(&self, prefix: &str, issues: &mut Issues) {
+        issues.range(
+            format!("{prefix}.non_exercise_activity_factor"),
+            self.non_exercise_activity_factor,
+            1.1,
+            2.0,
+            "",
+        );
+        self.energy_availability
+            .validate(&format!("{prefix}.energy_availability"), issues);
+        issues.range(
+            format!("{prefix}.default_body_fat.male_percent"),
+            self.default_body_fat.male_percent,
+            3.0,
+            50.0,
+            "%",
+        );
+        issues.range(
+            format!("{prefix}.default_body_fat.female_percent"),
+            self.default_body_fat.female_percent,
+            3.0,
+            50.0,
+            "%",
+        );
+        issues.range(
+            format!("{prefix}.max_body_mass_change_percent_per_week"),
+            self.max_body_mass_change_percent_per_week,
+            0.1,
+            1.5,
+            "% per week",
+        );
+        issues.range(
+            "settingself.moderate_intensity_fraction_vo2max",
+            self.moderate_intensity_fraction_vo2max,
+            0.3,
+            0.7,
+            "(fraction of VO2max)",
+        );
+        issues.range(
+            format!("{prefix}.protein_g_per_kg"),
+            self.protein_g_per_kg,
+            1.2,
+            2.0,
+            "g/kg",
+        );
+        issues.range(
+            format!("{prefix}.protein_g_per_kg_during_loss"),
+            self.protein_g_per_kg_during_loss,
+            1.2,
+            2.0,
+            "g/kg",
+        );
+        issues.range(
+            format!("{prefix}.carbohydrate_loading_hours"),
+            self.carbohydrate_loading_hours,
+            36.0,
+            48.0,
+            "h",
+        );
+        self.meal_times
+            .validate(&format!("{prefix}.meal_times"), issues);
+    }
+}
+
+impl DayPins {
+    /// Adds every out-of-range pin to `issues`, named under `prefix`.
+    pub fn validate(&self, prefix: &str, issues: &mut Issues) {
+        if let Some(pin) = self.carbohydrate_g_per_kg {
+            issues.range(
+                format!("{prefix}.carbohydrate_g_per_kg"),
+                pin,
+                0.0,
+                20.0,
+                "g/kg",
+            );
+        }
+        if let Some(pin) = self.protein_g_per_kg {
+            issues.range(format!("{prefix}.protein_g_per_kg"), pin, 0.5, 4.0, "g/kg");
+        }
+        if let Some(pin) = self.energy_kcal {
+            issues.range(
+                format!("{prefix}.energy_kcal"),
+                pin,
+                500.0,
+                10_000.0,
+                "kcal",
+            );
+        }
+    }
+}
+
 fn validate(input: &DayInput) -> Result<(), InvalidInput> {
     let mut issues = Issues::default();
     let p = &input.profile;
@@ -949,66 +1042,8 @@ fn validate(input: &DayInput) -> Result<(), InvalidInput> {
         issues.range("profile.goal_rate_kg_per_week", rate, 0.0, 2.0, "kg/week");
     }
 
+    input.settings.validate("settings", &mut issues);
     let s = &input.settings;
-    issues.range(
-        "settings.non_exercise_activity_factor",
-        s.non_exercise_activity_factor,
-        1.1,
-        2.0,
-        "",
-    );
-    s.energy_availability
-        .validate("settings.energy_availability", &mut issues);
-    issues.range(
-        "settings.default_body_fat.male_percent",
-        s.default_body_fat.male_percent,
-        3.0,
-        50.0,
-        "%",
-    );
-    issues.range(
-        "settings.default_body_fat.female_percent",
-        s.default_body_fat.female_percent,
-        3.0,
-        50.0,
-        "%",
-    );
-    issues.range(
-        "settings.max_body_mass_change_percent_per_week",
-        s.max_body_mass_change_percent_per_week,
-        0.1,
-        1.5,
-        "% per week",
-    );
-    issues.range(
-        "settings.moderate_intensity_fraction_vo2max",
-        s.moderate_intensity_fraction_vo2max,
-        0.3,
-        0.7,
-        "(fraction of VO2max)",
-    );
-    issues.range(
-        "settings.protein_g_per_kg",
-        s.protein_g_per_kg,
-        1.2,
-        2.0,
-        "g/kg",
-    );
-    issues.range(
-        "settings.protein_g_per_kg_during_loss",
-        s.protein_g_per_kg_during_loss,
-        1.2,
-        2.0,
-        "g/kg",
-    );
-    issues.range(
-        "settings.carbohydrate_loading_hours",
-        s.carbohydrate_loading_hours,
-        36.0,
-        48.0,
-        "h",
-    );
-    s.meal_times.validate("settings.meal_times", &mut issues);
     if s.resting_metabolic_rate == RestingMetabolicRateChoice::Cunningham
         && p.fat_free_mass_kg.is_none()
         && p.body_fat_percent.is_none()
@@ -1019,16 +1054,7 @@ fn validate(input: &DayInput) -> Result<(), InvalidInput> {
         );
     }
 
-    if let Some(pin) = input.pins.carbohydrate_g_per_kg {
-        issues.range("pins.carbohydrate_g_per_kg", pin, 0.0, 20.0, "g/kg");
-    }
-    if let Some(pin) = input.pins.protein_g_per_kg {
-        issues.range("pins.protein_g_per_kg", pin, 0.5, 4.0, "g/kg");
-    }
-    if let Some(pin) = input.pins.energy_kcal {
-        issues.range("pins.energy_kcal", pin, 500.0, 10_000.0, "kcal");
-    }
-
+    input.pins.validate("pins", &mut issues);
     let day = TimeDelta::days(1);
     validate_sessions(&input.sessions, "sessions", input.date, &mut issues);
     validate_sessions(

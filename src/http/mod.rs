@@ -10,6 +10,7 @@ pub mod fuel;
 pub mod middleware;
 pub mod openapi;
 pub mod sessions;
+pub mod targets;
 pub mod teams;
 pub mod tokens;
 
@@ -39,6 +40,7 @@ pub fn api_router() -> OpenApiRouter<AppState> {
         .merge(sessions::router())
         .merge(tokens::router())
         .merge(fuel::router())
+        .merge(targets::router())
 }
 
 pub fn json<T: Serialize>(status: StatusCode, body: &T) -> Response {

@@ -27,6 +27,7 @@ use crate::error::Problem;
         (name = "athletes", description = "Athletes and body-mass readings"),
         (name = "sessions", description = "The planned week and participation"),
         (name = "tokens", description = "API tokens"),
+        (name = "targets", description = "Pinned targets, sweat tests and plan settings"),
         (name = "engine", description = "Energy and fuel estimates (estimates, not prescriptions)")
     )
 )]

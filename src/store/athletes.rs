@@ -63,7 +63,7 @@ impl AthleteRow {
             goal: label(&self.goal)?,
             goal_rate_kg_per_week: self.goal_rate_kg_per_week,
             dietary_notes: self.dietary_notes,
-            care_flags: from_json(&self.care_flags)?,
+            health_flags: from_json(&self.care_flags)?,
             status: label(&self.status)?,
             latest_body_mass,
             version: self.version,
@@ -92,7 +92,7 @@ impl Columns {
             vo2max: input.vo2max.as_ref().map(to_json),
             training_status: label_of(&input.training_status),
             goal: label_of(&input.goal),
-            care_flags: to_json(&input.care_flags),
+            care_flags: to_json(&input.health_flags),
             status: label_of(&input.status),
         }
     }

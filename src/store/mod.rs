@@ -8,6 +8,7 @@
 
 pub mod athletes;
 pub mod audit;
+pub mod planning;
 pub mod sessions;
 pub mod teams;
 pub mod tokens;
