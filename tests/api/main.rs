@@ -13,3 +13,4 @@ mod security;
 mod sessions;
 mod teams;
 mod versions;
+mod openapi_doc;
