@@ -590,11 +590,12 @@ async fn unknown_fields_and_wrong_types_are_422_naming_the_field() {
     let team = app.team("Types").await;
     let a = with(athlete_body("Unknown"), "shoe_size", json!(44));
     let p = rejected(&app, team, &a).await;
+    assert_eq!(fields(&p), vec!["shoe_size"]);
     assert!(
         p["errors"][0]["reason"]
             .as_str()
             .unwrap()
-            .contains("shoe_size"),
+            .contains("unknown field"),
         "{p}"
     );
 
@@ -779,8 +780,6 @@ async fn missing_required_fields_are_named_in_the_field_of_the_problem() {
     let mut a = athlete_body("No height");
     a.as_object_mut().unwrap().remove("height_cm");
     assert_eq!(fields(&rejected(&app, team, &a).await), vec!["height_cm"]);
-    let a = with(athlete_body("Unknown"), "shoe_size", json!(44));
-    assert_eq!(fields(&rejected(&app, team, &a).await), vec!["shoe_size"]);
     let a = with(
         athlete_body("Nested"),
         "initial_body_mass",

@@ -249,7 +249,7 @@ async fn no_malformed_request_gets_a_5xx_and_every_error_is_problem_json() {
         (
             Method::PATCH,
             format!("/v1/athletes/{athlete}"),
-            Some(r#"{"care_flags": "all"}"#.into()),
+            Some(r#"{"health_flags": "all"}"#.into()),
         ),
         (
             Method::PATCH,
