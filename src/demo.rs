@@ -13,7 +13,7 @@ use crate::engine::profile::{
     GoalDirection, Intensity, Segment, SessionKind, Sex, TrainingStatus, Vo2maxSource,
 };
 use crate::store::audit::Actor;
-use crate::store::{Db, athletes, sessions, teams};
+use crate::store::{Db, Precondition, athletes, sessions, teams};
 
 const DEMO: Actor = Actor { token_id: None };
 
@@ -572,8 +572,16 @@ pub async fn load(db: &Db, monday: NaiveDate) -> Result<String, sqlx::Error> {
             exceptions.sort_by_key(|(i, _)| *i);
             exceptions.dedup_by_key(|(i, _)| *i);
             for (i, input) in exceptions {
-                sessions::put_participation(db, DEMO, team.id, matchday.id, ids[i], None, &input)
-                    .await?;
+                sessions::put_participation(
+                    db,
+                    DEMO,
+                    team.id,
+                    matchday.id,
+                    ids[i],
+                    &Precondition::None,
+                    &input,
+                )
+                .await?;
             }
         }
         summary.push_str(&format!(

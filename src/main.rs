@@ -43,6 +43,11 @@ enum Command {
     /// Create, list or revoke API tokens.
     #[command(subcommand)]
     Token(TokenCommand),
+    /// Check that a running service answers `GET /health` (for container health checks).
+    Probe {
+        #[arg(long, default_value = "http://127.0.0.1:8080/health")]
+        url: String,
+    },
     /// Write a consistent copy of a live database.
     Backup {
         #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = "./glycoweek.db")]
@@ -90,6 +95,7 @@ async fn main() -> ExitCode {
         Some(Command::Serve(args)) => serve(args).await,
         Some(Command::Token(cmd)) => token(cmd).await,
         Some(Command::Backup { database, to }) => backup(database, to).await,
+        Some(Command::Probe { url }) => probe(&url).await,
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,
@@ -256,4 +262,36 @@ async fn backup(database: PathBuf, to: PathBuf) -> Result<(), String> {
         to.display()
     );
     Ok(())
+}
+
+/// A minimal HTTP/1.0 GET, so the container image needs no curl.
+async fn probe(url: &str) -> Result<(), String> {
+    use tokio::io::{AsyncReadExt, AsyncWriteExt};
+    let rest = url
+        .strip_prefix("http://")
+        .ok_or("only http:// URLs can be probed")?;
+    let (authority, path) = rest
+        .split_once('/')
+        .map_or((rest, "/".to_owned()), |(a, p)| (a, format!("/{p}")));
+    let connect = tokio::net::TcpStream::connect(authority);
+    let mut stream = tokio::time::timeout(std::time::Duration::from_secs(3), connect)
+        .await
+        .map_err(|_| "timed out connecting".to_owned())?
+        .map_err(|e| format!("cannot connect to {authority}: {e}"))?;
+    let request = format!("GET {path} HTTP/1.0\r\nHost: {authority}\r\n\r\n");
+    stream
+        .write_all(request.as_bytes())
+        .await
+        .map_err(|e| e.to_string())?;
+    let mut head = [0u8; 16];
+    let n = tokio::time::timeout(std::time::Duration::from_secs(3), stream.read(&mut head))
+        .await
+        .map_err(|_| "timed out waiting for an answer".to_owned())?
+        .map_err(|e| e.to_string())?;
+    let status_line = String::from_utf8_lossy(&head[..n]);
+    if status_line.starts_with("HTTP/1.0 200") || status_line.starts_with("HTTP/1.1 200") {
+        Ok(())
+    } else {
+        Err(format!("unhealthy: {}", status_line.trim()))
+    }
 }

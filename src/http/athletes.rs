@@ -143,21 +143,23 @@ async fn update_athlete(
     let current = visible_athlete(&state, &caller, id).await?;
     caller.write(current.team_id, "athlete")?;
     let team = super::visible_team(&state, &caller, current.team_id).await?;
-    let input: AthleteInput = apply_merge_patch(&current.input(), &patch)?;
-    let input = input.normalised();
-    input.validate(team_today(&team), false)?;
-    if let (Some(ffm), Some(latest)) = (input.fat_free_mass_kg, &current.latest_body_mass) {
-        if ffm >= latest.body_mass_kg {
-            return Err(ApiError::field(
-                "fat_free_mass_kg",
-                "must be lower than the latest body mass",
-            ));
+    let today = team_today(&team);
+    let outcome = athletes::update(&state.db, caller.actor(), id, &expected, |current| {
+        let input: AthleteInput = apply_merge_patch(&current.input(), &patch)?;
+        let input = input.normalised();
+        input.validate(today, false)?;
+        if let (Some(ffm), Some(latest)) = (input.fat_free_mass_kg, &current.latest_body_mass) {
+            if ffm >= latest.body_mass_kg {
+                return Err(ApiError::field(
+                    "fat_free_mass_kg",
+                    "must be lower than the latest body mass",
+                ));
+            }
         }
-    }
-    written(
-        athletes::update(&state.db, caller.actor(), id, expected, &input).await?,
-        "athlete",
-    )
+        Ok(input)
+    })
+    .await?;
+    written(outcome, "athlete")
 }
 
 /// Erase an athlete and everything stored about them. To keep history, archive instead.
@@ -173,7 +175,7 @@ async fn delete_athlete(
     let current = visible_athlete(&state, &caller, id).await?;
     caller.write(current.team_id, "athlete")?;
     deleted(
-        athletes::delete(&state.db, caller.actor(), id, expected).await?,
+        athletes::delete(&state.db, caller.actor(), id, &expected).await?,
         "athlete",
     )
 }

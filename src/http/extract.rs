@@ -8,6 +8,7 @@ use axum::http::{HeaderMap, HeaderValue, StatusCode, header};
 use serde::de::DeserializeOwned;
 
 use crate::error::ApiError;
+use crate::store::Precondition;
 
 /// A JSON body. Syntax errors answer 400; values of the wrong type, missing
 /// or unknown fields answer 422 naming the field.
@@ -57,10 +58,22 @@ pub fn parse_json<T: DeserializeOwned>(bytes: &[u8]) -> Result<T, ApiError> {
             let inner = err.into_inner();
             use serde_json::error::Category;
             match inner.classify() {
-                Category::Data => Err(ApiError::field(
-                    if path == "." { String::new() } else { path },
-                    clean_serde_message(&inner.to_string()),
-                )),
+                Category::Data => {
+                    let message = inner.to_string();
+                    let mut field = if path == "." { String::new() } else { path };
+                    // A missing field is reported at its parent: name the field itself.
+                    if let Some(name) = message
+                        .strip_prefix("missing field `")
+                        .and_then(|rest| rest.split('`').next())
+                    {
+                        field = if field.is_empty() {
+                            name.to_owned()
+                        } else {
+                            format!("{field}.{name}")
+                        };
+                    }
+                    Err(ApiError::field(field, clean_serde_message(&message)))
+                }
                 Category::Syntax | Category::Eof | Category::Io => Err(ApiError::BadRequest(
                     format!("The body is not valid JSON ({}).", inner),
                 )),
@@ -125,27 +138,30 @@ impl<S: Send + Sync, T: DeserializeOwned + Send> FromRequestParts<S> for PathIds
     }
 }
 
-/// The version named by `If-Match`, when the client sent one.
-pub struct IfMatch(pub Option<i64>);
+/// The precondition of `If-Match`: absent or `*` writes unconditionally;
+/// otherwise the stored version must match one of the listed tags. Tags are
+/// compared strongly (RFC 9110): a weak tag `W/"v3"` never matches.
+pub struct IfMatch(pub Precondition);
 
 impl<S: Send + Sync> FromRequestParts<S> for IfMatch {
     type Rejection = ApiError;
 
     async fn from_request_parts(parts: &mut Parts, _state: &S) -> Result<Self, Self::Rejection> {
-        let Some(raw) = parts.headers.get(header::IF_MATCH) else {
-            return Ok(IfMatch(None));
-        };
-        let raw = raw.to_str().unwrap_or("").trim();
-        if raw == "*" {
-            return Ok(IfMatch(None));
+        let values: Vec<&str> = parts
+            .headers
+            .get_all(header::IF_MATCH)
+            .iter()
+            .filter_map(|v| v.to_str().ok())
+            .collect();
+        if values.is_empty() || values.iter().any(|v| v.trim() == "*") {
+            return Ok(IfMatch(Precondition::None));
         }
-        // Any listed tag that is not ours can never match: 412, not 400.
-        let version = raw
-            .split(',')
+        let versions = values
+            .iter()
+            .flat_map(|v| v.split(','))
             .filter_map(|tag| parse_etag(tag.trim()))
-            .next()
-            .unwrap_or(-1);
-        Ok(IfMatch(Some(version)))
+            .collect();
+        Ok(IfMatch(Precondition::OneOf(versions)))
     }
 }
 
@@ -155,6 +171,5 @@ pub fn etag(version: i64) -> HeaderValue {
 }
 
 fn parse_etag(tag: &str) -> Option<i64> {
-    let tag = tag.strip_prefix("W/").unwrap_or(tag);
     tag.strip_prefix("\"v")?.strip_suffix('"')?.parse().ok()
 }

@@ -196,13 +196,14 @@ async fn update_session(
 ) -> Result<Response> {
     let current = visible_session(&state, &caller, id).await?;
     caller.write(current.team_id, "session")?;
-    let input: SessionInput = apply_merge_patch(&current.input(), &patch)?;
-    let input = input.normalised();
-    input.validate()?;
-    written(
-        sessions::update(&state.db, caller.actor(), id, expected, &input).await?,
-        "session",
-    )
+    let outcome = sessions::update(&state.db, caller.actor(), id, &expected, |current| {
+        let input: SessionInput = apply_merge_patch(&current.input(), &patch)?;
+        let input = input.normalised();
+        input.validate()?;
+        Ok::<_, ApiError>(input)
+    })
+    .await?;
+    written(outcome, "session")
 }
 
 /// Delete a session.
@@ -218,7 +219,7 @@ async fn delete_session(
     let current = visible_session(&state, &caller, id).await?;
     caller.write(current.team_id, "session")?;
     deleted(
-        sessions::delete(&state.db, caller.actor(), id, expected).await?,
+        sessions::delete(&state.db, caller.actor(), id, &expected).await?,
         "session",
     )
 }
@@ -289,7 +290,7 @@ async fn put_participation(
             session.team_id,
             session_id,
             athlete_id,
-            expected,
+            &expected,
             &input,
         )
         .await?,
@@ -316,7 +317,7 @@ async fn delete_participation(
             session.team_id,
             session_id,
             athlete_id,
-            expected,
+            &expected,
         )
         .await?,
         "participation exception",

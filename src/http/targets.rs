@@ -172,7 +172,7 @@ async fn put_pin(
         athlete.team_id,
         id,
         date,
-        expected,
+        &expected,
         &input.pins,
         input.note.as_deref(),
     )
@@ -203,7 +203,7 @@ async fn delete_pin(
             athlete.team_id,
             id,
             date,
-            expected,
+            &expected,
         )
         .await?,
         "pin",

@@ -97,16 +97,17 @@ async fn update_team(
     JsonBody(patch): JsonBody<serde_json::Value>,
 ) -> Result<Response> {
     caller.admin().or_else(|_| caller.write(team_id, "team"))?;
-    let current = teams::get(&state.db, team_id)
+    teams::get(&state.db, team_id)
         .await?
         .ok_or(ApiError::NotFound("team"))?;
-    let input: TeamInput = apply_merge_patch(&current.input(), &patch)?;
-    let input = input.normalised();
-    input.validate()?;
-    written(
-        teams::update(&state.db, caller.actor(), team_id, expected, &input).await?,
-        "team",
-    )
+    let outcome = teams::update(&state.db, caller.actor(), team_id, &expected, |current| {
+        let input: TeamInput = apply_merge_patch(&current.input(), &patch)?;
+        let input = input.normalised();
+        input.validate()?;
+        Ok::<_, ApiError>(input)
+    })
+    .await?;
+    written(outcome, "team")
 }
 
 /// Delete a team and everything it holds.
@@ -122,7 +123,7 @@ async fn delete_team(
     caller.read(team_id, "team")?;
     caller.admin()?;
     deleted(
-        teams::delete(&state.db, caller.actor(), team_id, expected).await?,
+        teams::delete(&state.db, caller.actor(), team_id, &expected).await?,
         "team",
     )
 }

@@ -5,7 +5,7 @@ use tracing::instrument;
 use uuid::Uuid;
 
 use super::audit::{self, Action, Actor, Entry};
-use super::{Db, Write, from_json, label, now_text, parse_instant, to_json};
+use super::{Db, Precondition, Write, from_json, label, now_text, parse_instant, to_json};
 use crate::domain::athlete::{
     Athlete, AthleteInput, AthleteStatus, BodyMass, BodyMassInput, LatestBodyMass,
 };
@@ -256,20 +256,23 @@ pub async fn create(
 }
 
 #[instrument(skip_all)]
-pub async fn update(
+pub async fn update<E: From<sqlx::Error>>(
     db: &Db,
     actor: Actor,
     id: Uuid,
-    expected: Option<i64>,
-    input: &AthleteInput,
-) -> Result<Write<Athlete>, sqlx::Error> {
+    expected: &Precondition,
+    build: impl FnOnce(&Athlete) -> Result<AthleteInput, E>,
+) -> Result<Write<Athlete>, E> {
+    // The new state is built from the row read inside the write transaction,
+    // so a merge patch never overwrites a concurrent change.
     let mut tx = db.begin_write().await?;
     let Some(before) = fetch_in(&mut tx, id).await? else {
         return Ok(Write::NotFound);
     };
-    if expected.is_some_and(|v| v != before.version) {
+    if !expected.allows(Some(before.version)) {
         return Ok(Write::Stale);
     }
+    let input = &build(&before)?;
     let id_text = id.to_string();
     let now = now_text();
     let c = Columns::of(input);
@@ -327,19 +330,29 @@ pub async fn delete(
     db: &Db,
     actor: Actor,
     id: Uuid,
-    expected: Option<i64>,
+    expected: &Precondition,
 ) -> Result<Write<()>, sqlx::Error> {
     let mut tx = db.begin_write().await?;
     let Some(before) = fetch_in(&mut tx, id).await? else {
         return Ok(Write::NotFound);
     };
-    if expected.is_some_and(|v| v != before.version) {
+    if !expected.allows(Some(before.version)) {
         return Ok(Write::Stale);
     }
     let id_text = id.to_string();
     sqlx::query!("DELETE FROM athletes WHERE id = ?", id_text)
         .execute(&mut *tx)
         .await?;
+    // Erasure reaches the trail too: entries about this athlete keep that a
+    // change happened, but lose the values (names, body data, health flags).
+    sqlx::query!(
+        "UPDATE audit_log SET before_json = NULL, after_json = NULL
+         WHERE entity_id = ?1 OR entity_id LIKE ?1 || '/%' OR entity_id LIKE '%/' || ?1
+            OR json_extract(before_json, '$.athlete_id') = ?1 OR json_extract(after_json, '$.athlete_id') = ?1",
+        id_text
+    )
+    .execute(&mut *tx)
+    .await?;
     audit::record(
         &mut tx,
         actor,

@@ -188,6 +188,29 @@ pub fn date(s: &str) -> Result<chrono::NaiveDate, sqlx::Error> {
     chrono::NaiveDate::parse_from_str(s, "%Y-%m-%d").map_err(|e| sqlx::Error::Decode(Box::new(e)))
 }
 
+/// What a conditional write requires of the stored version (`If-Match`).
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Precondition {
+    /// No condition: write whatever is stored.
+    None,
+    /// The stored version must be one of these (an absent row matches none).
+    OneOf(Vec<i64>),
+}
+
+impl Precondition {
+    pub fn exactly(version: i64) -> Self {
+        Self::OneOf(vec![version])
+    }
+
+    /// Whether a row at `version` (`None`: no row) may be written.
+    pub fn allows(&self, version: Option<i64>) -> bool {
+        match self {
+            Self::None => true,
+            Self::OneOf(versions) => version.is_some_and(|v| versions.contains(&v)),
+        }
+    }
+}
+
 /// Result of a conditional write.
 pub enum Write<T> {
     Done(T),

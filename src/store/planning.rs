@@ -11,7 +11,7 @@ use utoipa::ToSchema;
 use uuid::Uuid;
 
 use super::audit::{self, Action, Actor, Entry};
-use super::{Db, Write, from_json, now_text, parse_instant, to_json};
+use super::{Db, Precondition, Write, from_json, now_text, parse_instant, to_json};
 use crate::engine::day_plan::{DayPins, PlanSettings};
 use crate::engine::hydration::SweatRateInput;
 
@@ -145,16 +145,14 @@ pub async fn put_pin(
     team_id: Uuid,
     athlete_id: Uuid,
     date: NaiveDate,
-    expected: Option<i64>,
+    expected: &Precondition,
     pins: &DayPins,
     note: Option<&str>,
 ) -> Result<Write<DayPin>, sqlx::Error> {
     let mut tx = db.begin_write().await?;
     let before = fetch_pin(&mut tx, athlete_id, date).await?;
-    if let Some(v) = expected {
-        if before.as_ref().map(|p| p.version) != Some(v) {
-            return Ok(Write::Stale);
-        }
+    if !expected.allows(before.as_ref().map(|p| p.version)) {
+        return Ok(Write::Stale);
     }
     let athlete = athlete_id.to_string();
     let on = date.to_string();
@@ -206,13 +204,13 @@ pub async fn delete_pin(
     team_id: Uuid,
     athlete_id: Uuid,
     date: NaiveDate,
-    expected: Option<i64>,
+    expected: &Precondition,
 ) -> Result<Write<()>, sqlx::Error> {
     let mut tx = db.begin_write().await?;
     let Some(before) = fetch_pin(&mut tx, athlete_id, date).await? else {
         return Ok(Write::NotFound);
     };
-    if expected.is_some_and(|v| v != before.version) {
+    if !expected.allows(Some(before.version)) {
         return Ok(Write::Stale);
     }
     let athlete = athlete_id.to_string();

@@ -5,7 +5,7 @@ use tracing::instrument;
 use uuid::Uuid;
 
 use super::audit::{self, Action, Actor, Entry};
-use super::{Db, Tx, Write, from_json, label, now_text, parse_instant, to_json};
+use super::{Db, Precondition, Tx, Write, from_json, label, now_text, parse_instant, to_json};
 use crate::domain::label_of;
 use crate::domain::session::{
     DateSpan, ImportResult, Participation, ParticipationInput, Session, SessionInput, total_minutes,
@@ -272,20 +272,23 @@ pub async fn import(
 }
 
 #[instrument(skip_all)]
-pub async fn update(
+pub async fn update<E: From<sqlx::Error>>(
     db: &Db,
     actor: Actor,
     id: Uuid,
-    expected: Option<i64>,
-    input: &SessionInput,
-) -> Result<Write<Session>, sqlx::Error> {
+    expected: &Precondition,
+    build: impl FnOnce(&Session) -> Result<SessionInput, E>,
+) -> Result<Write<Session>, E> {
+    // The new state is built from the row read inside the write transaction,
+    // so a merge patch never overwrites a concurrent change.
     let mut tx = db.begin_write().await?;
     let Some(before) = fetch_in(&mut tx, id).await? else {
         return Ok(Write::NotFound);
     };
-    if expected.is_some_and(|v| v != before.version) {
+    if !expected.allows(Some(before.version)) {
         return Ok(Write::Stale);
     }
+    let input = &build(&before)?;
     let id_text = id.to_string();
     let date = input.local_date.to_string();
     let start = input.start_time.format("%H:%M").to_string();
@@ -335,13 +338,13 @@ pub async fn delete(
     db: &Db,
     actor: Actor,
     id: Uuid,
-    expected: Option<i64>,
+    expected: &Precondition,
 ) -> Result<Write<()>, sqlx::Error> {
     let mut tx = db.begin_write().await?;
     let Some(before) = fetch_in(&mut tx, id).await? else {
         return Ok(Write::NotFound);
     };
-    if expected.is_some_and(|v| v != before.version) {
+    if !expected.allows(Some(before.version)) {
         return Ok(Write::Stale);
     }
     let id_text = id.to_string();
@@ -477,16 +480,14 @@ pub async fn put_participation(
     team_id: Uuid,
     session_id: Uuid,
     athlete_id: Uuid,
-    expected: Option<i64>,
+    expected: &Precondition,
     input: &ParticipationInput,
 ) -> Result<Write<Participation>, sqlx::Error> {
     let mut tx = db.begin_write().await?;
     let before = fetch_participation(&mut tx, session_id, athlete_id).await?;
     // With If-Match, an absent row has no version to match.
-    if let Some(v) = expected {
-        if before.as_ref().map(|p| p.version) != Some(v) {
-            return Ok(Write::Stale);
-        }
+    if !expected.allows(before.as_ref().map(|p| p.version)) {
+        return Ok(Write::Stale);
     }
     let session = session_id.to_string();
     let athlete = athlete_id.to_string();
@@ -543,13 +544,13 @@ pub async fn delete_participation(
     team_id: Uuid,
     session_id: Uuid,
     athlete_id: Uuid,
-    expected: Option<i64>,
+    expected: &Precondition,
 ) -> Result<Write<()>, sqlx::Error> {
     let mut tx = db.begin_write().await?;
     let Some(before) = fetch_participation(&mut tx, session_id, athlete_id).await? else {
         return Ok(Write::NotFound);
     };
-    if expected.is_some_and(|v| v != before.version) {
+    if !expected.allows(Some(before.version)) {
         return Ok(Write::Stale);
     }
     let session = session_id.to_string();

@@ -2,7 +2,7 @@ use tracing::instrument;
 use uuid::Uuid;
 
 use super::audit::{self, Action, Actor, Entry};
-use super::{Db, Write, now_text, parse_instant};
+use super::{Db, Precondition, Write, now_text, parse_instant};
 use crate::domain::team::{Team, TeamInput};
 
 fn to_json(t: &Team) -> serde_json::Value {
@@ -118,20 +118,23 @@ pub async fn list(
 
 /// Applies `input` if the stored version still equals `expected` (when given).
 #[instrument(skip_all)]
-pub async fn update(
+pub async fn update<E: From<sqlx::Error>>(
     db: &Db,
     actor: Actor,
     id: Uuid,
-    expected: Option<i64>,
-    input: &TeamInput,
-) -> Result<Write<Team>, sqlx::Error> {
+    expected: &Precondition,
+    build: impl FnOnce(&Team) -> Result<TeamInput, E>,
+) -> Result<Write<Team>, E> {
+    // The new state is built from the row read inside the write transaction,
+    // so a merge patch never overwrites a concurrent change.
     let mut tx = db.begin_write().await?;
     let Some(before) = fetch_in(&mut tx, id).await? else {
         return Ok(Write::NotFound);
     };
-    if expected.is_some_and(|v| v != before.version) {
+    if !expected.allows(Some(before.version)) {
         return Ok(Write::Stale);
     }
+    let input = &build(&before)?;
     let id_text = id.to_string();
     let now = now_text();
     sqlx::query!(
@@ -169,13 +172,13 @@ pub async fn delete(
     db: &Db,
     actor: Actor,
     id: Uuid,
-    expected: Option<i64>,
+    expected: &Precondition,
 ) -> Result<Write<()>, sqlx::Error> {
     let mut tx = db.begin_write().await?;
     let Some(before) = fetch_in(&mut tx, id).await? else {
         return Ok(Write::NotFound);
     };
-    if expected.is_some_and(|v| v != before.version) {
+    if !expected.allows(Some(before.version)) {
         return Ok(Write::Stale);
     }
     let id_text = id.to_string();

@@ -25,7 +25,11 @@ fn the_committed_openapi_document_matches_the_code() {
 #[tokio::test]
 async fn the_served_document_is_the_generated_one() {
     let app = spawn_app().await;
-    let res = app.req(Method::GET, "/openapi.json", None).send().await.unwrap();
+    let res = app
+        .req(Method::GET, "/openapi.json", None)
+        .send()
+        .await
+        .unwrap();
     assert_eq!(res.status(), 200);
     let served: Value = res.json().await.unwrap();
     let generated: Value = serde_json::to_value(glycoweek::openapi()).unwrap();
@@ -47,10 +51,10 @@ async fn every_request_example_is_accepted() {
     for (path, item) in doc["paths"].as_object().unwrap() {
         for (method, op) in item.as_object().unwrap() {
             let content = &op["requestBody"]["content"];
-            let Some((content_type, example)) = content
-                .as_object()
-                .and_then(|c| c.iter().find_map(|(ct, v)| v.get("example").map(|e| (ct.clone(), e.clone()))))
-            else {
+            let Some((content_type, example)) = content.as_object().and_then(|c| {
+                c.iter()
+                    .find_map(|(ct, v)| v.get("example").map(|e| (ct.clone(), e.clone())))
+            }) else {
                 continue;
             };
             let mut example = example;
@@ -72,7 +76,10 @@ async fn every_request_example_is_accepted() {
                 .unwrap();
             let status = res.status();
             let body = res.text().await.unwrap();
-            assert!(status.is_success(), "{method} {path} rejected its own example: {status} {body}");
+            assert!(
+                status.is_success(),
+                "{method} {path} rejected its own example: {status} {body}"
+            );
             tried += 1;
         }
     }
