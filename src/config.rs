@@ -37,6 +37,14 @@ pub struct Config {
     #[arg(long, env = "GLYCOWEEK_REQUEST_TIMEOUT_SECS", default_value_t = 30,
           value_parser = clap::value_parser!(u64).range(1..=600))]
     pub request_timeout_secs: u64,
+    /// Requests per minute allowed per token (or per client address without
+    /// one); 0 turns rate limiting off.
+    #[arg(long, env = "GLYCOWEEK_RATE_LIMIT_PER_MINUTE", default_value_t = 1200)]
+    pub rate_limit_per_minute: u32,
+    /// Serve `GET /v1/ceiling?bytes=N`, a pre-built response used by the load
+    /// script to measure what the HTTP stack allows (off in production).
+    #[arg(long, env = "GLYCOWEEK_CEILING_ENDPOINT")]
+    pub ceiling_endpoint: bool,
     #[arg(skip)]
     pub body_limit_bytes: usize,
 }
@@ -57,6 +65,8 @@ impl Config {
             cors_origins: Vec::new(),
             body_limit_bytes_raw: 1_048_576,
             request_timeout_secs: 30,
+            rate_limit_per_minute: 0,
+            ceiling_endpoint: false,
             body_limit_bytes: 1_048_576,
         }
     }

@@ -139,7 +139,7 @@ fn session(
 
 /// The senior week: a double-session day, gym, recovery, travel and a
 /// 15:00 Saturday match.
-fn senior_week(monday: NaiveDate) -> Vec<SessionInput> {
+pub fn senior_week(monday: NaiveDate) -> Vec<SessionInput> {
     let day = |n: u64| monday.checked_add_days(Days::new(n)).expect("date");
     let mut pre_match_training = session(
         day(1),
@@ -593,4 +593,20 @@ pub async fn load(db: &Db, monday: NaiveDate) -> Result<String, sqlx::Error> {
         ));
     }
     Ok(summary)
+}
+
+/// A synthetic squad of `size` senior players (names repeat past 25), for
+/// benchmarks: the same generator as the demo, without a database.
+pub fn synthetic_squad(size: usize, monday: NaiveDate) -> Vec<AthleteInput> {
+    let mut dice = Dice(0x6265_6e63_68);
+    let squad = Squad {
+        team: "benchmark",
+        sex: Sex::Male,
+        first: &SENIOR_FIRST,
+        last: &SENIOR_LAST,
+        birth_years: (1993, 2005),
+    };
+    (0..size)
+        .map(|i| athlete_input(&squad, i % 25, &mut dice, monday))
+        .collect()
 }

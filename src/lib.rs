@@ -10,6 +10,7 @@
 
 #![forbid(unsafe_code)]
 
+pub mod bench;
 pub mod config;
 pub mod demo;
 pub mod domain;
@@ -91,6 +92,10 @@ pub fn build_app(state: AppState) -> Router {
         )
     };
 
+    let mut api = api;
+    if config.ceiling_endpoint {
+        api = api.route("/v1/ceiling", axum::routing::get(http::ceiling));
+    }
     let router = api
         .with_state(state)
         .merge(docs)
@@ -113,6 +118,17 @@ pub fn build_app(state: AppState) -> Router {
     let router = match cors {
         Some(cors) => router.layer(cors),
         None => router,
+    };
+    let router = if config.rate_limit_per_minute > 0 {
+        let limiter = Arc::new(http::middleware::RateLimiter::new(
+            config.rate_limit_per_minute,
+        ));
+        router.layer(axum::middleware::from_fn_with_state(
+            limiter,
+            http::middleware::rate_limit,
+        ))
+    } else {
+        router
     };
     router
         .layer(DefaultBodyLimit::disable())
@@ -154,9 +170,12 @@ pub async fn serve(
     shutdown: impl std::future::Future<Output = ()> + Send + 'static,
 ) -> std::io::Result<()> {
     let app = build_app(state);
-    axum::serve(listener, app)
-        .with_graceful_shutdown(shutdown)
-        .await
+    axum::serve(
+        listener,
+        app.into_make_service_with_connect_info::<std::net::SocketAddr>(),
+    )
+    .with_graceful_shutdown(shutdown)
+    .await
 }
 
 /// Resolves on SIGINT or SIGTERM.

@@ -48,6 +48,17 @@ enum Command {
         #[arg(long, default_value = "http://127.0.0.1:8080/health")]
         url: String,
     },
+    /// Time the planning engine on synthetic squads (build with --release).
+    Bench {
+        /// Squad sizes to time.
+        #[arg(long, value_delimiter = ',', default_value = "10,40,160")]
+        athletes: Vec<usize>,
+        /// Plan lengths in weeks.
+        #[arg(long, value_delimiter = ',', default_value = "1,4,12")]
+        weeks: Vec<u64>,
+        #[arg(long, default_value_t = 3)]
+        repeats: usize,
+    },
     /// Write a consistent copy of a live database.
     Backup {
         #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = "./glycoweek.db")]
@@ -96,6 +107,22 @@ async fn main() -> ExitCode {
         Some(Command::Token(cmd)) => token(cmd).await,
         Some(Command::Backup { database, to }) => backup(database, to).await,
         Some(Command::Probe { url }) => probe(&url).await,
+        Some(Command::Bench {
+            athletes,
+            weeks,
+            repeats,
+        }) => {
+            if athletes.iter().any(|&n| n == 0 || n > 1000)
+                || weeks.iter().any(|&w| w == 0 || w > 16)
+            {
+                return {
+                    eprintln!("glycoweek: bench takes 1 to 1000 athletes and 1 to 16 weeks");
+                    ExitCode::FAILURE
+                };
+            }
+            glycoweek::bench::run(&athletes, &weeks, repeats);
+            Ok(())
+        }
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -140,3 +140,209 @@ pub fn profile_on(
         note,
     ))
 }
+
+// ---------------------------------------------------------------------------
+// Week plans for a team or one athlete.
+
+use crate::engine::day_plan::PlanSettings;
+use crate::engine::week::{
+    BodyMassEntry, DatedPins, PlannedSession, WeekInput, WeekPlan, WeekThresholds, plan_week,
+};
+
+/// Days loaded beyond the span: the day before (overnight gaps) and two
+/// after (next-day preparation and carbohydrate loading).
+pub const LOOK_BEHIND_DAYS: u64 = 1;
+pub const LOOK_AHEAD_DAYS: u64 = 2;
+
+/// Options of one plan request.
+#[derive(Debug, Clone)]
+pub struct PlanOptions {
+    pub span: (NaiveDate, NaiveDate),
+    pub settings: PlanSettings,
+    pub thresholds: WeekThresholds,
+    /// Muscle and liver glycogen at the start, as a fraction of capacity;
+    /// `None`: normal stores after a rest day.
+    pub start_glycogen_fraction: Option<f64>,
+    /// Include each session's full minute-by-minute fuel result.
+    pub include_session_fuel: bool,
+}
+
+/// One athlete's plan, or why there is none.
+pub struct AthleteWeek {
+    pub athlete: Athlete,
+    pub plan: Result<WeekPlan, Vec<String>>,
+}
+
+/// The engine input for one athlete.
+pub fn week_input(
+    data: &TeamData,
+    pins: &HashMap<(Uuid, NaiveDate), crate::engine::day_plan::DayPins>,
+    athlete: &Athlete,
+    options: &PlanOptions,
+) -> Result<WeekInput, Vec<String>> {
+    let readings = data
+        .body_mass
+        .get(&athlete.id)
+        .map(Vec::as_slice)
+        .unwrap_or(&[]);
+    let (profile, note) = profile_on(athlete, readings, options.span.0).map_err(|e| vec![e])?;
+    let sessions = data
+        .sessions
+        .iter()
+        .filter_map(|session| {
+            let exception = data.participation.get(&(session.id, athlete.id));
+            let segments = segments_for(session, exception)?;
+            let partial = exception.is_some();
+            Some(PlannedSession {
+                session_id: Some(session.id),
+                title: session.title.clone(),
+                kind: session.kind,
+                date: session.local_date,
+                start_time: session.start_time,
+                segments,
+                clock_minutes: partial.then_some(session.total_minutes),
+                key_session: session.key_session,
+                train_low: session.train_low,
+                carbohydrate_loading: session.carbohydrate_loading,
+            })
+        })
+        .collect();
+    let body_mass_by_date = readings
+        .iter()
+        .map(|(date, kg)| BodyMassEntry {
+            date: *date,
+            body_mass_kg: *kg,
+        })
+        .collect();
+    let mut athlete_pins: Vec<DatedPins> = pins
+        .iter()
+        .filter(|((id, _), _)| *id == athlete.id)
+        .map(|((_, date), p)| DatedPins {
+            date: *date,
+            carbohydrate_g_per_kg: p.carbohydrate_g_per_kg,
+            protein_g_per_kg: p.protein_g_per_kg,
+            energy_kcal: p.energy_kcal,
+        })
+        .collect();
+    athlete_pins.sort_by_key(|p| p.date);
+    let start_glycogen = options.start_glycogen_fraction.map(|fraction| {
+        let capacity = crate::engine::glycogen::glycogen_capacity(
+            profile.sex,
+            profile.body_mass_kg,
+            profile.training_status,
+        );
+        crate::engine::glycogen::GlycogenState {
+            muscle_g: capacity.muscle_g * fraction,
+            liver_g: capacity.liver_g * fraction.min(1.0),
+        }
+    });
+    let _ = note;
+    Ok(WeekInput {
+        athlete_id: Some(athlete.id),
+        profile,
+        body_mass_by_date,
+        from: options.span.0,
+        to: options.span.1,
+        sessions,
+        settings: options.settings.clone(),
+        pins: athlete_pins,
+        health_flags: athlete.health_flags.clone(),
+        start_glycogen,
+        thresholds: options.thresholds,
+        include_session_fuel: options.include_session_fuel,
+    })
+}
+
+/// Plans every athlete in `athletes`, spread over the machine's cores.
+pub fn plan_athletes(
+    data: &TeamData,
+    pins: &HashMap<(Uuid, NaiveDate), crate::engine::day_plan::DayPins>,
+    athletes: &[Athlete],
+    options: &PlanOptions,
+) -> Vec<AthleteWeek> {
+    let plan_one = |athlete: &Athlete| AthleteWeek {
+        athlete: athlete.clone(),
+        plan: week_input(data, pins, athlete, options).and_then(|input| {
+            plan_week(&input).map_err(|e| {
+                e.issues
+                    .into_iter()
+                    .map(|i| format!("{}: {}", i.field, i.reason))
+                    .collect()
+            })
+        }),
+    };
+    let workers = std::thread::available_parallelism()
+        .map_or(1, |n| n.get())
+        .min(athletes.len().max(1));
+    if workers <= 1 || athletes.len() < 4 {
+        return athletes.iter().map(plan_one).collect();
+    }
+    let chunk = athletes.len().div_ceil(workers);
+    std::thread::scope(|scope| {
+        let handles: Vec<_> = athletes
+            .chunks(chunk)
+            .map(|part| scope.spawn(move || part.iter().map(plan_one).collect::<Vec<_>>()))
+            .collect();
+        handles
+            .into_iter()
+            .flat_map(|h| {
+                h.join()
+                    .unwrap_or_else(|panic| std::panic::resume_unwind(panic))
+            })
+            .collect()
+    })
+}
+
+/// Fluid guidance for an athlete's sessions from their latest sweat test
+/// (Sawka et al. 2007: keep body-mass loss from sweat under 2 %).
+#[derive(Debug, Clone, serde::Serialize, utoipa::ToSchema)]
+pub struct FluidGuide {
+    pub tested_on: NaiveDate,
+    /// Estimated sweat rate, litres per hour, from that test.
+    pub sweat_rate_l_per_hour: f64,
+    pub sessions: Vec<SessionFluid>,
+    pub source: String,
+}
+
+#[derive(Debug, Clone, serde::Serialize, utoipa::ToSchema)]
+pub struct SessionFluid {
+    pub session_id: Option<Uuid>,
+    pub title: String,
+    pub start: chrono::NaiveDateTime,
+    /// Expected sweat loss, litres (estimate: tested rate x minutes).
+    pub expected_sweat_loss_l: f64,
+    /// Drink at least this much during the session to keep the loss under 2 % of body mass.
+    pub drink_during_at_least_l: f64,
+}
+
+pub fn fluid_guide(
+    test: &crate::store::planning::SweatTest,
+    plan: &WeekPlan,
+) -> Option<FluidGuide> {
+    let rate = crate::engine::hydration::sweat_rate(&test.input)
+        .ok()?
+        .sweat_rate_l_per_hour;
+    let sessions = plan
+        .days
+        .iter()
+        .flat_map(|day| {
+            day.sessions.iter().map(move |s| {
+                let loss = rate * s.fuel_summary.minutes / 60.0;
+                let allowed = 0.02 * day.body_mass_kg;
+                SessionFluid {
+                    session_id: s.session_id,
+                    title: s.title.clone(),
+                    start: s.start,
+                    expected_sweat_loss_l: (loss * 100.0).round() / 100.0,
+                    drink_during_at_least_l: ((loss - allowed).max(0.0) * 100.0).round() / 100.0,
+                }
+            })
+        })
+        .collect();
+    Some(FluidGuide {
+        tested_on: test.tested_on,
+        sweat_rate_l_per_hour: (rate * 100.0).round() / 100.0,
+        sessions,
+        source: "Sawka et al. (2007) Med Sci Sports Exerc 39:377: keep body-mass loss from sweat under 2 %; estimate, assumes the tested conditions".into(),
+    })
+}

@@ -26,6 +26,11 @@
 //! - [`eating_occasions`]: the day's targets as a timeline of eating occasions.
 //! - [`plan_notes`]: warnings with stable codes, and explanations.
 //! - [`hydration`]: sweat-rate calculator, [`hydration::sweat_rate`].
+//! - [`glycogen_balance`]: how eaten carbohydrate refills muscle and liver
+//!   glycogen and how the liver runs down at rest; the science is documented there.
+//! - [`week`]: one athlete over a span of days, [`week::plan_week`]: sessions
+//!   simulated from the glycogen carried from day to day, daily plans, an
+//!   hourly glycogen series and the warnings a dietitian acts on.
 
 pub mod athlete;
 pub mod catalogue;
@@ -37,6 +42,7 @@ pub mod energy_availability;
 pub mod fuel_mix;
 pub mod gas_exchange;
 pub mod glycogen;
+pub mod glycogen_balance;
 pub mod hydration;
 pub mod intensity;
 pub mod plan_notes;
@@ -44,6 +50,7 @@ pub mod profile;
 pub mod session;
 pub mod session_fuelling;
 pub mod session_work;
+pub mod week;
 
 use serde::Serialize;
 use utoipa::ToSchema;

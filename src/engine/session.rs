@@ -188,7 +188,8 @@ pub fn simulate_session_for(
     Ok(run(athlete, segments, start_glycogen))
 }
 
-fn validate_segments(segments: &[Segment], issues: &mut Issues) {
+/// Checks a session's segments; field paths start with `segments`.
+pub(crate) fn validate_segments(segments: &[Segment], issues: &mut Issues) {
     if segments.is_empty() {
         issues.push("segments", "at least one segment is required");
     }

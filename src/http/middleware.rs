@@ -100,3 +100,112 @@ fn generic(status: StatusCode) -> serde_json::Value {
     };
     serde_json::to_value(body).unwrap_or_default()
 }
+
+/// Per-client request budget (token bucket): a client is its bearer token,
+/// or its address when it sends none. Over budget answers 429 with
+/// `Retry-After`.
+pub struct RateLimiter {
+    per_second: f64,
+    burst: f64,
+    buckets: std::sync::Mutex<std::collections::HashMap<[u8; 32], (f64, std::time::Instant)>>,
+}
+
+impl RateLimiter {
+    pub fn new(per_minute: u32) -> Self {
+        let per_minute = f64::from(per_minute);
+        Self {
+            per_second: per_minute / 60.0,
+            // Ten seconds' worth of requests may come at once.
+            burst: (per_minute / 6.0).max(10.0),
+            buckets: Default::default(),
+        }
+    }
+
+    /// Takes one request from `key`'s budget, or says how long to wait.
+    pub fn check(&self, key: [u8; 32], now: std::time::Instant) -> Result<(), std::time::Duration> {
+        let mut buckets = self
+            .buckets
+            .lock()
+            .unwrap_or_else(|poisoned| poisoned.into_inner());
+        if buckets.len() > 50_000 {
+            // Forget clients whose bucket has refilled: they lose nothing.
+            let (rate, burst) = (self.per_second, self.burst);
+            buckets.retain(|_, (tokens, at)| {
+                *tokens + now.duration_since(*at).as_secs_f64() * rate < burst
+            });
+        }
+        let (tokens, at) = buckets.entry(key).or_insert((self.burst, now));
+        *tokens =
+            (*tokens + now.duration_since(*at).as_secs_f64() * self.per_second).min(self.burst);
+        *at = now;
+        if *tokens >= 1.0 {
+            *tokens -= 1.0;
+            Ok(())
+        } else {
+            Err(std::time::Duration::from_secs_f64(
+                (1.0 - *tokens) / self.per_second,
+            ))
+        }
+    }
+}
+
+/// Applies the [`RateLimiter`] to `/v1` routes.
+pub async fn rate_limit(
+    axum::extract::State(limiter): axum::extract::State<std::sync::Arc<RateLimiter>>,
+    req: Request,
+    next: Next,
+) -> Response {
+    use sha2::{Digest, Sha256};
+    if !req.uri().path().starts_with("/v1/") {
+        return next.run(req).await;
+    }
+    let key: [u8; 32] = match req.headers().get(header::AUTHORIZATION) {
+        Some(auth) => Sha256::digest(auth.as_bytes()).into(),
+        None => {
+            let peer = req
+                .extensions()
+                .get::<axum::extract::ConnectInfo<std::net::SocketAddr>>()
+                .map(|c| c.0.ip().to_string())
+                .unwrap_or_default();
+            Sha256::digest(peer.as_bytes()).into()
+        }
+    };
+    match limiter.check(key, std::time::Instant::now()) {
+        Ok(()) => next.run(req).await,
+        Err(wait) => {
+            let mut res = Response::new(Body::empty());
+            *res.status_mut() = StatusCode::TOO_MANY_REQUESTS;
+            let seconds = wait.as_secs().max(1).to_string();
+            if let Ok(v) = HeaderValue::from_str(&seconds) {
+                res.headers_mut().insert(header::RETRY_AFTER, v);
+            }
+            res
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::time::{Duration, Instant};
+
+    #[test]
+    fn a_client_over_budget_waits_and_then_gets_through() {
+        let limiter = RateLimiter::new(60); // one a second, burst of ten
+        let t0 = Instant::now();
+        for _ in 0..10 {
+            assert!(limiter.check([1; 32], t0).is_ok());
+        }
+        let wait = limiter.check([1; 32], t0).unwrap_err();
+        assert!(wait <= Duration::from_secs(1));
+        assert!(
+            limiter.check([2; 32], t0).is_ok(),
+            "another client has its own budget"
+        );
+        assert!(
+            limiter
+                .check([1; 32], t0 + Duration::from_millis(1100))
+                .is_ok()
+        );
+    }
+}

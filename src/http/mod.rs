@@ -5,10 +5,12 @@
 
 pub mod athletes;
 pub mod auth;
+pub mod calendar;
 pub mod extract;
 pub mod fuel;
 pub mod middleware;
 pub mod openapi;
+pub mod plan;
 pub mod sessions;
 pub mod targets;
 pub mod teams;
@@ -41,6 +43,8 @@ pub fn api_router() -> OpenApiRouter<AppState> {
         .merge(tokens::router())
         .merge(fuel::router())
         .merge(targets::router())
+        .merge(plan::router())
+        .merge(calendar::router())
 }
 
 pub fn json<T: Serialize>(status: StatusCode, body: &T) -> Response {
@@ -168,4 +172,41 @@ async fn health(State(state): State<AppState>) -> Result<Response> {
             version: env!("CARGO_PKG_VERSION"),
         },
     ))
+}
+
+#[derive(serde::Deserialize)]
+pub struct CeilingParams {
+    bytes: Option<usize>,
+}
+
+/// A pre-built JSON response of about `bytes` bytes behind the same
+/// authentication and middleware as the API: the throughput ceiling that the
+/// HTTP stack allows, for the load script (served only with `--ceiling-endpoint`).
+pub async fn ceiling(
+    _caller: Caller,
+    extract::QueryParams(q): extract::QueryParams<CeilingParams>,
+) -> Result<Response> {
+    use std::sync::{Mutex, OnceLock};
+    static BODIES: OnceLock<Mutex<std::collections::HashMap<usize, axum::body::Bytes>>> =
+        OnceLock::new();
+    let bytes = q.bytes.unwrap_or(100_000).clamp(16, 16 * 1024 * 1024);
+    let body = {
+        let mut cache = BODIES
+            .get_or_init(Default::default)
+            .lock()
+            .unwrap_or_else(|p| p.into_inner());
+        cache
+            .entry(bytes)
+            .or_insert_with(|| {
+                let padding = "x".repeat(bytes.saturating_sub(14));
+                axum::body::Bytes::from(format!("{{\"padding\":\"{padding}\"}}"))
+            })
+            .clone()
+    };
+    let mut res = (StatusCode::OK, body).into_response();
+    res.headers_mut().insert(
+        header::CONTENT_TYPE,
+        HeaderValue::from_static("application/json"),
+    );
+    Ok(res)
 }

@@ -27,6 +27,7 @@ use crate::error::Problem;
         (name = "athletes", description = "Athletes and body-mass readings"),
         (name = "sessions", description = "The planned week and participation"),
         (name = "tokens", description = "API tokens"),
+        (name = "plans", description = "Week plans, summaries, changes and feeds (estimates)"),
         (name = "targets", description = "Pinned targets, sweat tests and plan settings"),
         (name = "engine", description = "Energy and fuel estimates (estimates, not prescriptions)")
     )
@@ -70,7 +71,7 @@ impl Modify for Problems {
     fn modify(&self, doc: &mut OpenApiDoc) {
         // Operations added later (after split_for_parts) go through `finish`.
         for (path, item) in doc.paths.paths.iter_mut() {
-            let public = !path.starts_with("/v1/");
+            let public = !path.starts_with("/v1/") || path.starts_with("/v1/calendar/");
             let has_params = path.contains('{');
             let ops: [(&str, &mut Option<Operation>); 5] = [
                 ("get", &mut item.get),

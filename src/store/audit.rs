@@ -115,3 +115,61 @@ pub async fn list(
         })
         .collect()
 }
+
+/// The team's input version: the sequence number of its latest recorded
+/// change. Every write that can change a plan records an entry with the
+/// team id, so a plan's ETag can be derived without computing the plan.
+#[instrument(skip_all)]
+pub async fn team_version(pool: &sqlx::SqlitePool, team: Uuid) -> Result<i64, sqlx::Error> {
+    let team = team.to_string();
+    let seq = sqlx::query_scalar!(
+        r#"SELECT COALESCE(MAX(seq), 0) as "seq!: i64" FROM audit_log WHERE team_id = ?"#,
+        team
+    )
+    .fetch_one(pool)
+    .await?;
+    Ok(seq)
+}
+
+/// One change in a team's changes feed (what changed, never the values).
+#[derive(Debug, Clone, Serialize, ToSchema)]
+pub struct Change {
+    /// Pass the last `seq` you processed as `since` to get what came after.
+    pub seq: i64,
+    pub occurred_at: DateTime<Utc>,
+    pub action: String,
+    pub entity_type: String,
+    pub entity_id: String,
+}
+
+/// Changes of a team after `since`, oldest first.
+#[instrument(skip_all)]
+pub async fn changes(
+    pool: &sqlx::SqlitePool,
+    team: Uuid,
+    since: i64,
+    limit: u32,
+) -> Result<Vec<Change>, sqlx::Error> {
+    let team = team.to_string();
+    let limit = i64::from(limit);
+    let rows = sqlx::query!(
+        r#"SELECT seq as "seq!", occurred_at, action, entity_type, entity_id
+           FROM audit_log WHERE team_id = ? AND seq > ? ORDER BY seq LIMIT ?"#,
+        team,
+        since,
+        limit
+    )
+    .fetch_all(pool)
+    .await?;
+    rows.into_iter()
+        .map(|r| {
+            Ok(Change {
+                seq: r.seq,
+                occurred_at: super::parse_instant(&r.occurred_at)?,
+                action: r.action,
+                entity_type: r.entity_type,
+                entity_id: r.entity_id,
+            })
+        })
+        .collect()
+}

@@ -9,6 +9,7 @@
 pub mod athletes;
 pub mod audit;
 pub mod planning;
+pub mod plans;
 pub mod sessions;
 pub mod teams;
 pub mod tokens;

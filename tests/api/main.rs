@@ -10,6 +10,7 @@ mod durability;
 mod malformed;
 mod openapi_doc;
 mod participation;
+mod plans;
 mod security;
 mod sessions;
 mod teams;

@@ -1,0 +1,147 @@
+#!/usr/bin/env bash
+# API fuzzing: runs schemathesis against the OpenAPI document the service
+# itself serves, with every check, authenticated as the first administrator,
+# on a fresh database loaded with the fictional demo club.
+#
+# It builds the release binary, starts it on a free loopback port (the service
+# binds 127.0.0.1:0 and prints the port it got), waits for /health, fuzzes,
+# stops the service and exits non-zero on any finding.
+#
+#   scripts/fuzz.sh                      # the CI run
+#   FUZZ_EXAMPLES=200 scripts/fuzz.sh    # a longer hunt
+#   FUZZ_SEED=1234 scripts/fuzz.sh       # replay a run
+#
+# Environment:
+#   FUZZ_EXAMPLES      test cases per operation and phase (default 40)
+#   FUZZ_SEED          schemathesis seed (default: random, printed by schemathesis)
+#   FUZZ_TIMEOUT_SECS  hard limit on the whole schemathesis run (default 600)
+#   FUZZ_REPORT_DIR    JUnit report and a cassette of every request (default target/fuzz-report)
+# Anything after the script's arguments goes to `st run` as is, e.g.
+#   scripts/fuzz.sh --include-path-regex '^/v1/sessions'
+set -euo pipefail
+cd "$(dirname "$0")/.."
+
+SCHEMATHESIS_VERSION=4.32.5
+examples=${FUZZ_EXAMPLES:-40}
+timeout_secs=${FUZZ_TIMEOUT_SECS:-600}
+target_dir=${CARGO_TARGET_DIR:-target}
+report_dir=${FUZZ_REPORT_DIR:-$target_dir/fuzz-report}
+venv=$target_dir/fuzz-venv
+
+step() { printf '\n==> %s\n' "$*"; }
+
+# 1. schemathesis, pinned, in its own virtual environment.
+if ! "$venv/bin/st" --version 2>/dev/null | grep -qF "$SCHEMATHESIS_VERSION"; then
+  step "installing schemathesis $SCHEMATHESIS_VERSION into $venv"
+  rm -rf "$venv"
+  python3 -m venv "$venv"
+  "$venv/bin/pip" install --quiet --disable-pip-version-check "schemathesis==$SCHEMATHESIS_VERSION"
+fi
+
+# 2. The service, from the committed offline query data.
+step "cargo build --release"
+SQLX_OFFLINE=true DATABASE_URL='' cargo build --release --locked --quiet
+binary=$target_dir/release/glycoweek
+
+# 3. A fresh database with the demo club, on a port the kernel picks.
+work=$(mktemp -d)
+service_pid=
+stop_service() {
+  if [ -n "$service_pid" ] && kill -0 "$service_pid" 2>/dev/null; then
+    kill -TERM "$service_pid" 2>/dev/null || true
+    # Graceful shutdown finishes in-flight requests; give it 10 s, then SIGKILL.
+    for _ in $(seq 1 100); do
+      kill -0 "$service_pid" 2>/dev/null || break
+      sleep 0.1
+    done
+    kill -KILL "$service_pid" 2>/dev/null || true
+    wait "$service_pid" 2>/dev/null || true
+  fi
+  rm -rf "$work"
+}
+trap stop_service EXIT
+
+log=$work/service.log
+step "starting the service on a fresh demo database"
+# Flags win over any GLYCOWEEK_* variables in the caller's environment.
+RUST_LOG=${RUST_LOG:-warn,glycoweek=info} "$binary" --demo \
+  --database "$work/fuzz.db" --listen 127.0.0.1:0 --log-format text 2>"$log" &
+service_pid=$!
+
+addr=
+for _ in $(seq 1 300); do # up to 30 s for migrations and the demo load
+  addr=$(grep -o 'listening on http://127\.0\.0\.1:[0-9]*' "$log" | head -n 1 | cut -d' ' -f3 || true)
+  [ -n "$addr" ] && break
+  if ! kill -0 "$service_pid" 2>/dev/null; then
+    echo "the service exited before listening:" >&2
+    cat "$log" >&2
+    exit 1
+  fi
+  sleep 0.1
+done
+if [ -z "$addr" ]; then
+  echo "the service did not start listening within 30 s:" >&2
+  cat "$log" >&2
+  exit 1
+fi
+token=$(grep -o 'gwk_[A-Za-z0-9_-]*' "$log" | head -n 1 || true)
+if [ -z "$token" ]; then
+  echo "no administrator token in the service's first-start output" >&2
+  exit 1
+fi
+
+healthy=
+for _ in $(seq 1 100); do # up to 10 s
+  if "$binary" probe --url "$addr/health" 2>/dev/null; then
+    healthy=1
+    break
+  fi
+  sleep 0.1
+done
+if [ -z "$healthy" ]; then
+  echo "$addr/health did not answer 200 within 10 s:" >&2
+  cat "$log" >&2
+  exit 1
+fi
+echo "service at $addr (pid $service_pid)"
+
+# 4. Fuzz. Phases: the documented examples, coverage (boundary and negative
+# values derived from the schemas), random fuzzing, and stateful sequences
+# that schemathesis infers from the Location headers of 201 responses.
+# No --max-time: in schemathesis 4 it makes fuzzing and stateful testing
+# repeat until the budget is spent, so the run is bounded by the example
+# count, and `timeout` is only a safety net.
+st_args=(
+  run "$addr/openapi.json"
+  --header "Authorization: Bearer $token"
+  --checks all
+  --phases examples,coverage,fuzzing,stateful
+  --max-examples "$examples"
+  --workers 2
+  --request-timeout 30
+  --generation-database none
+  --suppress-health-check too_slow,filter_too_much
+  --report junit,vcr
+  --report-dir "$report_dir"
+  --no-color
+)
+[ -n "${FUZZ_SEED:-}" ] && st_args+=(--seed "$FUZZ_SEED")
+
+step "schemathesis: $examples examples per operation, every check"
+mkdir -p "$report_dir"
+status=0
+timeout --signal=INT --kill-after=30 "$timeout_secs" "$venv/bin/st" "${st_args[@]}" "$@" || status=$?
+
+if grep -q ' ERROR ' "$log"; then
+  echo
+  echo "service errors logged during the run:"
+  grep ' ERROR ' "$log" | sort | uniq -c | sort -rn | head -n 20
+fi
+if [ "$status" -eq 124 ]; then
+  echo "schemathesis did not finish within ${timeout_secs}s" >&2
+fi
+if [ "$status" -ne 0 ]; then
+  echo "API fuzzing found problems (exit $status); reports in $report_dir" >&2
+  exit "$status"
+fi
+echo "API fuzzing: no findings"

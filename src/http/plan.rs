@@ -1,0 +1,824 @@
+//! Week plans: the squad plan, the compact squad summary, one athlete's
+//! plan, what a change did to the plan, and the feeds club systems pull
+//! (CSV for kitchens and spreadsheets, iCalendar for athletes' calendars,
+//! and a changes feed for integrators).
+//!
+//! Plans are computed from the stored data on every request. Their ETag is
+//! the team's input version (the sequence number of its latest change) and
+//! the span, so `If-None-Match` answers 304 without computing anything, and
+//! a change to any input is visible in the very next plan.
+
+use std::collections::HashMap;
+
+use axum::extract::State;
+use axum::http::{HeaderMap, HeaderValue, StatusCode, header};
+use axum::response::{IntoResponse, Response};
+use chrono::{Days, NaiveDate, Weekday};
+use serde::{Deserialize, Serialize};
+use utoipa::{IntoParams, ToSchema};
+use utoipa_axum::{router::OpenApiRouter, routes};
+use uuid::Uuid;
+
+use super::athletes::visible_athlete;
+use super::auth::Caller;
+use super::extract::{PathIds, QueryParams};
+use super::{json, team_today, visible_team};
+use crate::AppState;
+use crate::domain::athlete::Athlete;
+use crate::domain::team::Team;
+use crate::engine::day_targets::LoadBand;
+use crate::engine::energy_availability::EnergyAvailabilityBand;
+use crate::engine::week::{WeekPlan, WeekThresholds, WeekWarning};
+use crate::error::{ApiError, Result};
+use crate::planner::{self, AthleteWeek, LOOK_AHEAD_DAYS, LOOK_BEHIND_DAYS, PlanOptions, TeamData};
+use crate::store::{audit, planning, plans};
+
+pub fn router() -> OpenApiRouter<AppState> {
+    OpenApiRouter::new()
+        .routes(routes!(team_plan))
+        .routes(routes!(team_summary))
+        .routes(routes!(team_summary_csv))
+        .routes(routes!(plan_changes))
+        .routes(routes!(athlete_plan))
+        .routes(routes!(changes_feed))
+}
+
+/// Longest span one plan request may cover.
+pub const MAX_SPAN_DAYS: i64 = 16 * 7;
+
+#[derive(Debug, Deserialize, IntoParams)]
+#[serde(deny_unknown_fields)]
+#[into_params(parameter_in = Query)]
+pub struct PlanParams {
+    /// First local date (default: Monday of the current week in the team's zone).
+    from: Option<NaiveDate>,
+    /// Last local date, inclusive (default: `from` + 6 days; at most 16 weeks).
+    to: Option<NaiveDate>,
+    /// An ISO week such as `2026-W50`, instead of `from`/`to`.
+    week: Option<String>,
+    /// Muscle and liver glycogen at the start as a fraction of capacity
+    /// (0.2 to 1.3); default: normal stores after a rest day.
+    start_glycogen_fraction: Option<f64>,
+    /// Include each session's minute-by-minute fuel result (larger response).
+    include_session_fuel: Option<bool>,
+}
+
+/// Resolves the span of a plan request in the team's calendar.
+fn span_of(q: &PlanParams, team: &Team) -> Result<(NaiveDate, NaiveDate)> {
+    let (from, to) = if let Some(week) = &q.week {
+        if q.from.is_some() || q.to.is_some() {
+            return Err(ApiError::field(
+                "week",
+                "give either week or from/to, not both",
+            ));
+        }
+        let monday = parse_iso_week(week)
+            .ok_or_else(|| ApiError::field("week", "must be an ISO week such as 2026-W50"))?;
+        (monday, monday + Days::new(6))
+    } else {
+        let from = q
+            .from
+            .unwrap_or_else(|| team_today(team).week(Weekday::Mon).first_day());
+        (from, q.to.unwrap_or(from + Days::new(6)))
+    };
+    let mut issues = crate::engine::Issues::default();
+    crate::domain::session::check_date(&mut issues, "from", from);
+    crate::domain::session::check_date(&mut issues, "to", to);
+    issues.finish()?;
+    if to < from {
+        return Err(ApiError::field("to", "must not be before from"));
+    }
+    if (to - from).num_days() >= MAX_SPAN_DAYS {
+        return Err(ApiError::field(
+            "to",
+            format!("a plan covers at most {MAX_SPAN_DAYS} days"),
+        ));
+    }
+    Ok((from, to))
+}
+
+fn parse_iso_week(s: &str) -> Option<NaiveDate> {
+    let (year, week) = s.split_once("-W")?;
+    NaiveDate::from_isoywd_opt(year.parse().ok()?, week.parse().ok()?, Weekday::Mon)
+}
+
+/// The strong ETag of a plan: the team's input version, the span and the
+/// build (a new engine may compute differently).
+fn plan_etag(version: i64, span: (NaiveDate, NaiveDate), variant: &str) -> String {
+    format!(
+        "\"plan-{version}-{}-{}-{variant}-{}\"",
+        span.0,
+        span.1,
+        env!("CARGO_PKG_VERSION")
+    )
+}
+
+fn not_modified(headers: &HeaderMap, etag: &str) -> Option<Response> {
+    let matches = headers
+        .get_all(header::IF_NONE_MATCH)
+        .iter()
+        .filter_map(|v| v.to_str().ok())
+        .flat_map(|v| v.split(','))
+        .any(|tag| {
+            let tag = tag.trim();
+            tag == "*" || tag.trim_start_matches("W/") == etag
+        });
+    matches.then(|| {
+        let mut res = StatusCode::NOT_MODIFIED.into_response();
+        res.headers_mut()
+            .insert(header::ETAG, HeaderValue::from_str(etag).expect("ascii"));
+        res
+    })
+}
+
+fn with_etag(mut res: Response, etag: &str) -> Response {
+    res.headers_mut()
+        .insert(header::ETAG, HeaderValue::from_str(etag).expect("ascii"));
+    // Plans may be cached by the client, but must be revalidated each time.
+    res.headers_mut().insert(
+        header::CACHE_CONTROL,
+        HeaderValue::from_static("private, no-cache"),
+    );
+    res
+}
+
+/// Loads the team's data and computes the plans of `athletes` (all active
+/// athletes when `None`) off the async runtime.
+async fn compute(
+    state: &AppState,
+    team: Team,
+    q: &PlanParams,
+    span: (NaiveDate, NaiveDate),
+    only: Option<Uuid>,
+) -> Result<(TeamData, Vec<AthleteWeek>)> {
+    if let Some(f) = q.start_glycogen_fraction {
+        if !(0.2..=1.3).contains(&f) {
+            return Err(ApiError::field(
+                "start_glycogen_fraction",
+                "must be between 0.2 and 1.3",
+            ));
+        }
+    }
+    let load_span = (
+        span.0 - Days::new(LOOK_BEHIND_DAYS),
+        span.1 + Days::new(LOOK_AHEAD_DAYS),
+    );
+    let settings = planning::plan_settings(&state.db, team.id).await?;
+    let pins = planning::pins_for_team(&state.db, team.id, load_span).await?;
+    let data = TeamData::load(&state.db, team, load_span).await?;
+    let options = PlanOptions {
+        span,
+        settings,
+        thresholds: WeekThresholds::default(),
+        start_glycogen_fraction: q.start_glycogen_fraction,
+        include_session_fuel: q.include_session_fuel.unwrap_or(false),
+    };
+    let result = tokio::task::spawn_blocking(move || {
+        let athletes: Vec<Athlete> = data
+            .athletes
+            .iter()
+            .filter(|a| only.is_none_or(|id| a.id == id))
+            .cloned()
+            .collect();
+        let weeks = planner::plan_athletes(&data, &pins, &athletes, &options);
+        (data, weeks)
+    })
+    .await
+    .map_err(ApiError::internal)?;
+    Ok(result)
+}
+
+/// One athlete's week in a squad plan.
+#[derive(Debug, Serialize, ToSchema)]
+pub struct AthletePlan {
+    pub athlete_id: Uuid,
+    pub display_name: String,
+    pub position_group: Option<String>,
+    /// Absent when the athlete cannot be planned; see `problems`.
+    pub plan: Option<WeekPlan>,
+    pub problems: Vec<String>,
+    /// Fluid guidance from the athlete's latest sweat test, if any.
+    pub fluid: Option<planner::FluidGuide>,
+}
+
+/// The squad plan: per athlete, per day, targets, eating occasions, session
+/// fuelling, glycogen and warnings. Every figure is an estimate.
+#[derive(Debug, Serialize, ToSchema)]
+pub struct TeamPlan {
+    pub team_id: Uuid,
+    pub team_name: String,
+    pub time_zone: String,
+    pub from: NaiveDate,
+    pub to: NaiveDate,
+    /// The inputs' version (also the `ETag`).
+    pub version: String,
+    pub athletes: Vec<AthletePlan>,
+    pub cautions: Vec<String>,
+}
+
+async fn athlete_plans(
+    state: &AppState,
+    data: &TeamData,
+    weeks: Vec<AthleteWeek>,
+) -> Result<Vec<AthletePlan>> {
+    let sweat = planning::latest_sweat_tests(&state.db, data.team.id).await?;
+    Ok(weeks
+        .into_iter()
+        .map(|w| {
+            let fluid = match (&w.plan, sweat.get(&w.athlete.id)) {
+                (Ok(plan), Some(test)) => planner::fluid_guide(test, plan),
+                _ => None,
+            };
+            let (plan, problems) = match w.plan {
+                Ok(plan) => (Some(plan), Vec::new()),
+                Err(problems) => (None, problems),
+            };
+            AthletePlan {
+                athlete_id: w.athlete.id,
+                display_name: w.athlete.display_name,
+                position_group: w.athlete.position_group,
+                plan,
+                problems,
+                fluid,
+            }
+        })
+        .collect())
+}
+
+/// The squad plan for a span (a week by default).
+#[utoipa::path(get, path = "/v1/teams/{team_id}/plan", tag = "plans",
+    params(("team_id" = Uuid, Path), PlanParams, ("if-none-match" = Option<String>, Header)),
+    responses(
+        (status = 200, description = "The squad plan (estimates)", body = TeamPlan, headers(("etag" = String))),
+        (status = 304, description = "Unchanged since the ETag you sent")))]
+async fn team_plan(
+    State(state): State<AppState>,
+    caller: Caller,
+    headers: HeaderMap,
+    PathIds(team_id): PathIds<Uuid>,
+    QueryParams(q): QueryParams<PlanParams>,
+) -> Result<Response> {
+    let team = visible_team(&state, &caller, team_id).await?;
+    let span = span_of(&q, &team)?;
+    let version = audit::team_version(&state.db.read, team_id).await?;
+    let etag = plan_etag(
+        version,
+        span,
+        if q.include_session_fuel == Some(true) {
+            "full"
+        } else {
+            "plan"
+        },
+    );
+    if let Some(res) = not_modified(&headers, &etag) {
+        return Ok(res);
+    }
+    let (data, weeks) = compute(&state, team, &q, span, None).await?;
+    save_snapshot(&state, team_id, version, span, &weeks).await;
+    let athletes = athlete_plans(&state, &data, weeks).await?;
+    let body = TeamPlan {
+        team_id,
+        team_name: data.team.name.clone(),
+        time_zone: data.team.time_zone.clone(),
+        from: span.0,
+        to: span.1,
+        version: etag.trim_matches('"').to_owned(),
+        athletes,
+        cautions: planner::general_cautions(),
+    };
+    Ok(with_etag(json(StatusCode::OK, &body), &etag))
+}
+
+/// One row of the squad summary: an athlete's day at a glance.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, ToSchema)]
+pub struct SummaryRow {
+    pub athlete_id: Uuid,
+    pub display_name: String,
+    pub date: NaiveDate,
+    pub load_band: LoadBand,
+    pub carbohydrate_g_per_kg: f64,
+    pub carbohydrate_g: f64,
+    /// The day's carbohydrate is a dietitian's pin.
+    pub carbohydrate_pinned: bool,
+    pub protein_g: f64,
+    pub fat_g: f64,
+    pub energy_kcal: f64,
+    /// kcal per kg fat-free mass per day (estimate).
+    pub energy_availability: f64,
+    pub energy_availability_band: EnergyAvailabilityBand,
+    /// Minutes of the athlete's own work that day.
+    pub training_minutes: f64,
+    pub sessions: usize,
+    /// Estimated muscle glycogen as a fraction of capacity at the start and end of the day.
+    pub muscle_glycogen_start: f64,
+    pub muscle_glycogen_end: f64,
+    /// The lowest estimated muscle glycogen fraction at the start of any session that day.
+    pub lowest_session_start_glycogen: Option<f64>,
+    /// Codes of the day's warnings (day plan and week checks).
+    pub warnings: Vec<String>,
+}
+
+fn round(x: f64, places: i32) -> f64 {
+    let f = 10f64.powi(places);
+    (x * f).round() / f
+}
+
+fn label<T: Serialize>(value: &T) -> String {
+    crate::domain::label_of(value)
+}
+
+fn summary_rows(weeks: &[AthleteWeek]) -> Vec<SummaryRow> {
+    let mut rows = Vec::new();
+    for week in weeks {
+        let Ok(plan) = &week.plan else { continue };
+        for day in &plan.days {
+            let p = &day.plan;
+            let mut warnings: Vec<String> = p.warnings.iter().map(|w| label(&w.code)).collect();
+            warnings.extend(
+                plan.warnings
+                    .iter()
+                    .filter(|w| w.date == day.date)
+                    .map(|w| label(&w.code)),
+            );
+            warnings.sort();
+            warnings.dedup();
+            rows.push(SummaryRow {
+                athlete_id: week.athlete.id,
+                display_name: week.athlete.display_name.clone(),
+                date: day.date,
+                load_band: p.load.band,
+                carbohydrate_g_per_kg: round(p.carbohydrate.g_per_kg, 2),
+                carbohydrate_g: round(p.carbohydrate.g, 1),
+                carbohydrate_pinned: p.carbohydrate.pinned,
+                protein_g: round(p.protein.g, 1),
+                fat_g: round(p.fat.g, 1),
+                energy_kcal: round(p.energy.kcal, 0),
+                energy_availability: round(p.energy_availability.kcal_per_kg_fat_free_mass, 1),
+                energy_availability_band: p.energy_availability.band,
+                training_minutes: round(
+                    day.sessions.iter().map(|s| s.fuel_summary.minutes).sum(),
+                    1,
+                ),
+                sessions: day.sessions.len(),
+                muscle_glycogen_start: round(day.glycogen_at_start.muscle_fraction, 3),
+                muscle_glycogen_end: round(day.glycogen_at_end.muscle_fraction, 3),
+                lowest_session_start_glycogen: day
+                    .sessions
+                    .iter()
+                    .map(|s| round(s.glycogen_at_start.muscle_fraction, 3))
+                    .reduce(f64::min),
+                warnings,
+            });
+        }
+    }
+    rows
+}
+
+async fn save_snapshot(
+    state: &AppState,
+    team_id: Uuid,
+    version: i64,
+    span: (NaiveDate, NaiveDate),
+    weeks: &[AthleteWeek],
+) {
+    // A snapshot is a convenience for "what changed"; failing to store one
+    // (read-only disk, busy writer) must not fail the plan itself.
+    match plans::snapshot(&state.db, team_id, version, span).await {
+        Ok(Some(_)) => {}
+        Ok(None) => {
+            let rows = serde_json::to_string(&summary_rows(weeks)).unwrap_or_default();
+            if let Err(e) = plans::save_snapshot(&state.db, team_id, version, span, &rows).await {
+                tracing::warn!(error = %e, "could not store a plan snapshot");
+            }
+        }
+        Err(e) => tracing::warn!(error = %e, "could not read plan snapshots"),
+    }
+}
+
+/// The compact squad summary for overview screens.
+#[derive(Debug, Serialize, ToSchema)]
+pub struct TeamSummary {
+    pub team_id: Uuid,
+    pub from: NaiveDate,
+    pub to: NaiveDate,
+    /// The inputs' version (also the `ETag`); pass it to `/plan/changes` later.
+    pub version: String,
+    /// One row per athlete and day.
+    pub rows: Vec<SummaryRow>,
+    /// Athletes without a plan and why.
+    pub unplanned: Vec<Unplanned>,
+    /// Every week-level warning, with its cause and fix.
+    pub warnings: Vec<WeekWarning>,
+    pub cautions: Vec<String>,
+}
+
+#[derive(Debug, Serialize, ToSchema)]
+pub struct Unplanned {
+    pub athlete_id: Uuid,
+    pub display_name: String,
+    pub problems: Vec<String>,
+}
+
+fn unplanned(weeks: &[AthleteWeek]) -> Vec<Unplanned> {
+    weeks
+        .iter()
+        .filter_map(|w| {
+            w.plan.as_ref().err().map(|problems| Unplanned {
+                athlete_id: w.athlete.id,
+                display_name: w.athlete.display_name.clone(),
+                problems: problems.clone(),
+            })
+        })
+        .collect()
+}
+
+/// The squad summary: one row per athlete per day.
+#[utoipa::path(get, path = "/v1/teams/{team_id}/plan/summary", tag = "plans",
+    params(("team_id" = Uuid, Path), PlanParams, ("if-none-match" = Option<String>, Header)),
+    responses(
+        (status = 200, description = "The squad summary (estimates)", body = TeamSummary, headers(("etag" = String))),
+        (status = 304, description = "Unchanged since the ETag you sent")))]
+async fn team_summary(
+    State(state): State<AppState>,
+    caller: Caller,
+    headers: HeaderMap,
+    PathIds(team_id): PathIds<Uuid>,
+    QueryParams(q): QueryParams<PlanParams>,
+) -> Result<Response> {
+    let team = visible_team(&state, &caller, team_id).await?;
+    let span = span_of(&q, &team)?;
+    let version = audit::team_version(&state.db.read, team_id).await?;
+    let etag = plan_etag(version, span, "summary");
+    if let Some(res) = not_modified(&headers, &etag) {
+        return Ok(res);
+    }
+    let (_, weeks) = compute(&state, team, &q, span, None).await?;
+    save_snapshot(&state, team_id, version, span, &weeks).await;
+    let body = TeamSummary {
+        team_id,
+        from: span.0,
+        to: span.1,
+        version: version.to_string(),
+        rows: summary_rows(&weeks),
+        unplanned: unplanned(&weeks),
+        warnings: weeks
+            .iter()
+            .filter_map(|w| w.plan.as_ref().ok())
+            .flat_map(|p| p.warnings.iter().cloned())
+            .collect(),
+        cautions: planner::general_cautions(),
+    };
+    Ok(with_etag(json(StatusCode::OK, &body), &etag))
+}
+
+const CSV_COLUMNS: [&str; 17] = [
+    "date",
+    "athlete_id",
+    "athlete",
+    "load_band",
+    "carbohydrate_g_per_kg",
+    "carbohydrate_g",
+    "carbohydrate_pinned",
+    "protein_g",
+    "fat_g",
+    "energy_kcal",
+    "energy_availability_kcal_per_kg_ffm",
+    "energy_availability_band",
+    "training_minutes",
+    "sessions",
+    "muscle_glycogen_start_fraction",
+    "muscle_glycogen_end_fraction",
+    "warnings",
+];
+
+/// Renders the summary as RFC 4180 CSV: one row per athlete and day, then
+/// one `TOTAL` row per day with the catering totals of that day's rows.
+pub fn summary_csv(rows: &[SummaryRow]) -> std::result::Result<Vec<u8>, csv::Error> {
+    let mut out = csv::WriterBuilder::new()
+        .terminator(csv::Terminator::CRLF)
+        .from_writer(Vec::new());
+    out.write_record(CSV_COLUMNS)?;
+    let mut sorted: Vec<&SummaryRow> = rows.iter().collect();
+    sorted.sort_by(|a, b| (a.date, &a.display_name).cmp(&(b.date, &b.display_name)));
+    let mut totals: std::collections::BTreeMap<NaiveDate, [f64; 4]> = Default::default();
+    for r in &sorted {
+        out.write_record([
+            r.date.to_string(),
+            r.athlete_id.to_string(),
+            r.display_name.clone(),
+            label(&r.load_band),
+            r.carbohydrate_g_per_kg.to_string(),
+            r.carbohydrate_g.to_string(),
+            r.carbohydrate_pinned.to_string(),
+            r.protein_g.to_string(),
+            r.fat_g.to_string(),
+            r.energy_kcal.to_string(),
+            r.energy_availability.to_string(),
+            label(&r.energy_availability_band),
+            r.training_minutes.to_string(),
+            r.sessions.to_string(),
+            r.muscle_glycogen_start.to_string(),
+            r.muscle_glycogen_end.to_string(),
+            r.warnings.join(" "),
+        ])?;
+        let t = totals.entry(r.date).or_default();
+        t[0] += r.carbohydrate_g;
+        t[1] += r.protein_g;
+        t[2] += r.fat_g;
+        t[3] += r.energy_kcal;
+    }
+    for (date, t) in totals {
+        let mut record = vec![String::new(); CSV_COLUMNS.len()];
+        record[0] = date.to_string();
+        record[2] = "TOTAL".into();
+        record[5] = round(t[0], 1).to_string();
+        record[7] = round(t[1], 1).to_string();
+        record[8] = round(t[2], 1).to_string();
+        record[9] = round(t[3], 0).to_string();
+        out.write_record(&record)?;
+    }
+    out.into_inner().map_err(|e| e.into_error().into())
+}
+
+/// The squad summary as CSV (RFC 4180) for spreadsheets and kitchens, with
+/// a `TOTAL` row per day for catering.
+#[utoipa::path(get, path = "/v1/teams/{team_id}/plan/summary.csv", tag = "plans",
+    params(("team_id" = Uuid, Path), PlanParams, ("if-none-match" = Option<String>, Header)),
+    responses(
+        (status = 200, description = "CSV, one row per athlete and day, then daily totals", content_type = "text/csv", body = String, headers(("etag" = String))),
+        (status = 304, description = "Unchanged since the ETag you sent")))]
+async fn team_summary_csv(
+    State(state): State<AppState>,
+    caller: Caller,
+    headers: HeaderMap,
+    PathIds(team_id): PathIds<Uuid>,
+    QueryParams(q): QueryParams<PlanParams>,
+) -> Result<Response> {
+    let team = visible_team(&state, &caller, team_id).await?;
+    let span = span_of(&q, &team)?;
+    let version = audit::team_version(&state.db.read, team_id).await?;
+    let etag = plan_etag(version, span, "csv");
+    if let Some(res) = not_modified(&headers, &etag) {
+        return Ok(res);
+    }
+    let (_, weeks) = compute(&state, team, &q, span, None).await?;
+    let bytes = summary_csv(&summary_rows(&weeks)).map_err(ApiError::internal)?;
+    let mut res = (StatusCode::OK, bytes).into_response();
+    res.headers_mut().insert(
+        header::CONTENT_TYPE,
+        HeaderValue::from_static("text/csv; charset=utf-8; header=present"),
+    );
+    let disposition = format!("attachment; filename=\"plan-{}-{}.csv\"", span.0, span.1);
+    if let Ok(v) = HeaderValue::from_str(&disposition) {
+        res.headers_mut().insert(header::CONTENT_DISPOSITION, v);
+    }
+    Ok(with_etag(res, &etag))
+}
+
+#[derive(Debug, Deserialize, IntoParams)]
+#[serde(deny_unknown_fields)]
+#[into_params(parameter_in = Query)]
+pub struct ChangesParams {
+    /// The `version` of a summary you read before the change.
+    since_version: i64,
+    from: Option<NaiveDate>,
+    to: Option<NaiveDate>,
+    week: Option<String>,
+}
+
+/// One field of an athlete-day that a change moved.
+#[derive(Debug, Serialize, ToSchema)]
+pub struct FieldChange {
+    pub field: String,
+    #[schema(value_type = Object)]
+    pub before: serde_json::Value,
+    #[schema(value_type = Object)]
+    pub after: serde_json::Value,
+}
+
+#[derive(Debug, Serialize, ToSchema)]
+pub struct DayChange {
+    pub athlete_id: Uuid,
+    pub display_name: String,
+    pub date: NaiveDate,
+    /// `changed`, `added` (no row before) or `removed` (no row now).
+    pub kind: String,
+    pub fields: Vec<FieldChange>,
+}
+
+#[derive(Debug, Serialize, ToSchema)]
+pub struct PlanChanges {
+    pub from_version: i64,
+    pub to_version: i64,
+    pub from: NaiveDate,
+    pub to: NaiveDate,
+    /// The inputs that changed between the two versions.
+    pub input_changes: Vec<audit::Change>,
+    /// Athlete-days whose plan changed, by athlete and date.
+    pub days: Vec<DayChange>,
+}
+
+fn diff_rows(before: &[SummaryRow], after: &[SummaryRow]) -> Vec<DayChange> {
+    let key = |r: &SummaryRow| (r.athlete_id, r.date);
+    let old: HashMap<_, _> = before.iter().map(|r| (key(r), r)).collect();
+    let new: HashMap<_, _> = after.iter().map(|r| (key(r), r)).collect();
+    let mut out = Vec::new();
+    for r in after {
+        match old.get(&key(r)) {
+            None => out.push(DayChange {
+                athlete_id: r.athlete_id,
+                display_name: r.display_name.clone(),
+                date: r.date,
+                kind: "added".into(),
+                fields: Vec::new(),
+            }),
+            Some(o) => {
+                let (a, b) = (
+                    serde_json::to_value(o).unwrap_or_default(),
+                    serde_json::to_value(r).unwrap_or_default(),
+                );
+                let fields: Vec<FieldChange> = b
+                    .as_object()
+                    .into_iter()
+                    .flatten()
+                    .filter(|(k, v)| a.get(k.as_str()) != Some(v) && k.as_str() != "display_name")
+                    .map(|(k, v)| FieldChange {
+                        field: k.clone(),
+                        before: a.get(k.as_str()).cloned().unwrap_or_default(),
+                        after: v.clone(),
+                    })
+                    .collect();
+                if !fields.is_empty() {
+                    out.push(DayChange {
+                        athlete_id: r.athlete_id,
+                        display_name: r.display_name.clone(),
+                        date: r.date,
+                        kind: "changed".into(),
+                        fields,
+                    });
+                }
+            }
+        }
+    }
+    for r in before {
+        if !new.contains_key(&key(r)) {
+            out.push(DayChange {
+                athlete_id: r.athlete_id,
+                display_name: r.display_name.clone(),
+                date: r.date,
+                kind: "removed".into(),
+                fields: Vec::new(),
+            });
+        }
+    }
+    out.sort_by(|x, y| (&x.display_name, x.date).cmp(&(&y.display_name, y.date)));
+    out
+}
+
+/// What changed in the squad plan since a version you read (e.g. after a
+/// coach moved a session): per athlete and day, each target that moved.
+#[utoipa::path(get, path = "/v1/teams/{team_id}/plan/changes", tag = "plans",
+    params(("team_id" = Uuid, Path), ChangesParams),
+    responses((status = 200, description = "Differences between the two versions' plans", body = PlanChanges)))]
+async fn plan_changes(
+    State(state): State<AppState>,
+    caller: Caller,
+    PathIds(team_id): PathIds<Uuid>,
+    QueryParams(c): QueryParams<ChangesParams>,
+) -> Result<Response> {
+    let team = visible_team(&state, &caller, team_id).await?;
+    let q = PlanParams {
+        from: c.from,
+        to: c.to,
+        week: c.week,
+        start_glycogen_fraction: None,
+        include_session_fuel: None,
+    };
+    let span = span_of(&q, &team)?;
+    let version = audit::team_version(&state.db.read, team_id).await?;
+    if c.since_version > version || c.since_version < 0 {
+        return Err(ApiError::field(
+            "since_version",
+            "is not a version of this team",
+        ));
+    }
+    let before_json = plans::snapshot(&state.db, team_id, c.since_version, span)
+        .await?
+        .ok_or_else(|| {
+            ApiError::field(
+                "since_version",
+                "no plan of that version and span was computed (read the summary for the same span first; recent versions are kept)",
+            )
+        })?;
+    let before: Vec<SummaryRow> = serde_json::from_str(&before_json).map_err(ApiError::internal)?;
+    let (_, weeks) = compute(&state, team, &q, span, None).await?;
+    save_snapshot(&state, team_id, version, span, &weeks).await;
+    let after = summary_rows(&weeks);
+    let input_changes = audit::changes(&state.db.read, team_id, c.since_version, 500).await?;
+    Ok(json(
+        StatusCode::OK,
+        &PlanChanges {
+            from_version: c.since_version,
+            to_version: version,
+            from: span.0,
+            to: span.1,
+            input_changes,
+            days: diff_rows(&before, &after),
+        },
+    ))
+}
+
+/// One athlete's plan for a span (a week by default).
+#[utoipa::path(get, path = "/v1/athletes/{athlete_id}/plan", tag = "plans",
+    params(("athlete_id" = Uuid, Path), PlanParams, ("if-none-match" = Option<String>, Header)),
+    responses(
+        (status = 200, description = "The athlete's plan (estimates)", body = AthletePlan, headers(("etag" = String))),
+        (status = 304, description = "Unchanged since the ETag you sent")))]
+async fn athlete_plan(
+    State(state): State<AppState>,
+    caller: Caller,
+    headers: HeaderMap,
+    PathIds(athlete_id): PathIds<Uuid>,
+    QueryParams(q): QueryParams<PlanParams>,
+) -> Result<Response> {
+    let athlete = visible_athlete(&state, &caller, athlete_id).await?;
+    let team = visible_team(&state, &caller, athlete.team_id).await?;
+    let span = span_of(&q, &team)?;
+    let version = audit::team_version(&state.db.read, team.id).await?;
+    let etag = plan_etag(
+        version,
+        span,
+        &format!(
+            "{athlete_id}-{}",
+            if q.include_session_fuel == Some(true) {
+                "full"
+            } else {
+                "plan"
+            }
+        ),
+    );
+    if let Some(res) = not_modified(&headers, &etag) {
+        return Ok(res);
+    }
+    let (data, weeks) = compute(&state, team, &q, span, Some(athlete_id)).await?;
+    let Some(plan) = athlete_plans(&state, &data, weeks)
+        .await?
+        .into_iter()
+        .next()
+    else {
+        return Err(ApiError::Conflict(
+            "This athlete is archived: archived athletes are not planned. Set status to active to plan them.".into(),
+        ));
+    };
+    Ok(with_etag(json(StatusCode::OK, &plan), &etag))
+}
+
+#[derive(Debug, Deserialize, IntoParams)]
+#[serde(deny_unknown_fields)]
+#[into_params(parameter_in = Query)]
+pub struct ChangesFeedParams {
+    /// The last `seq` you processed (0 for everything).
+    since: Option<i64>,
+    /// At most this many changes (1 to 200, default 100).
+    limit: Option<u32>,
+}
+
+/// The team's changes after a cursor: integrators poll this cheaply and
+/// re-read plans only when something changed.
+#[derive(Debug, Serialize, ToSchema)]
+pub struct ChangesFeed {
+    pub changes: Vec<audit::Change>,
+    /// Pass as `since` next time.
+    pub next_since: i64,
+}
+
+/// A cheap changes feed of the team's inputs (cursor `since`).
+#[utoipa::path(get, path = "/v1/teams/{team_id}/changes", tag = "plans",
+    params(("team_id" = Uuid, Path), ChangesFeedParams),
+    responses((status = 200, description = "Changes after `since`, oldest first", body = ChangesFeed)))]
+async fn changes_feed(
+    State(state): State<AppState>,
+    caller: Caller,
+    PathIds(team_id): PathIds<Uuid>,
+    QueryParams(q): QueryParams<ChangesFeedParams>,
+) -> Result<Response> {
+    visible_team(&state, &caller, team_id).await?;
+    let since = q.since.unwrap_or(0);
+    if since < 0 {
+        return Err(ApiError::field("since", "must be 0 or more"));
+    }
+    let limit = match q.limit {
+        None => 100,
+        Some(n) if (1..=200).contains(&n) => n,
+        Some(_) => return Err(ApiError::field("limit", "must be between 1 and 200")),
+    };
+    let changes = audit::changes(&state.db.read, team_id, since, limit).await?;
+    let next_since = changes.last().map_or(since, |c| c.seq);
+    Ok(json(
+        StatusCode::OK,
+        &ChangesFeed {
+            changes,
+            next_since,
+        },
+    ))
+}

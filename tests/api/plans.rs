@@ -1,0 +1,423 @@
+//! Week plans on the demo squad: match preparation, speedy refuelling,
+//! substitutes, feeds (CSV, iCalendar), ETags and "what changed".
+
+use chrono::{Days, NaiveDate};
+use reqwest::Method;
+use serde_json::{Value, json};
+use uuid::Uuid;
+
+use crate::helpers::*;
+
+/// The demo week used by these tests (a Monday).
+const MONDAY: &str = "2026-11-30";
+
+fn day(n: u64) -> String {
+    (MONDAY.parse::<NaiveDate>().unwrap() + Days::new(n)).to_string()
+}
+
+/// Loads the demo club and returns the senior team's id.
+async fn demo(app: &TestApp) -> Uuid {
+    glycoweek::demo::load(&app.db, MONDAY.parse().unwrap())
+        .await
+        .expect("demo");
+    let teams: Value = app.get("/v1/teams", &app.admin).await.json().await.unwrap();
+    teams["items"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|t| t["name"].as_str().unwrap().contains("senior"))
+        .map(id_of)
+        .unwrap()
+}
+
+async fn summary(app: &TestApp, team: Uuid) -> Value {
+    let res = app
+        .get(
+            &format!("/v1/teams/{team}/plan/summary?from={MONDAY}"),
+            &app.admin,
+        )
+        .await;
+    assert_eq!(res.status(), 200);
+    res.json().await.unwrap()
+}
+
+fn row<'a>(summary: &'a Value, athlete: &str, date: &str) -> &'a Value {
+    summary["rows"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|r| r["athlete_id"] == athlete && r["date"] == date)
+        .unwrap_or_else(|| panic!("no row for {athlete} on {date}"))
+}
+
+/// Athletes of the match by how they take part.
+async fn match_participants(app: &TestApp, team: Uuid) -> (Vec<String>, Vec<String>) {
+    let sessions: Value = app
+        .get(&format!("/v1/teams/{team}/sessions?kind=match"), &app.admin)
+        .await
+        .json()
+        .await
+        .unwrap();
+    let session = sessions["items"][0]["id"].as_str().unwrap().to_owned();
+    let fuel: Value = app
+        .get(&format!("/v1/sessions/{session}/fuel"), &app.admin)
+        .await
+        .json()
+        .await
+        .unwrap();
+    let by = |mode: &str| {
+        fuel["athletes"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .filter(|a| a["takes_part"] == mode)
+            .map(|a| a["athlete_id"].as_str().unwrap().to_owned())
+            .collect::<Vec<_>>()
+    };
+    (by("full"), by("shortened"))
+}
+
+#[tokio::test]
+async fn the_demo_week_prepares_the_day_before_and_the_day_of_the_match() {
+    let app = spawn_app().await;
+    let team = demo(&app).await;
+    let s = summary(&app, team).await;
+    assert!(
+        s["unplanned"].as_array().unwrap().is_empty(),
+        "{}",
+        s["unplanned"]
+    );
+    assert_eq!(s["rows"].as_array().unwrap().len(), 25 * 7);
+    let (starters, _) = match_participants(&app, team).await;
+    assert!(starters.len() >= 8);
+    for starter in &starters {
+        for date in [day(4), day(5)] {
+            let r = row(&s, starter, &date);
+            let g = r["carbohydrate_g_per_kg"].as_f64().unwrap();
+            // Team-sport practice: 6-8 g/kg on the day before and the day of a
+            // match (expert group statement on nutrition in elite football,
+            // 2021, from memory), unless a pin says otherwise.
+            assert!((6.0..=8.0).contains(&g), "{starter} on {date}: {g} g/kg");
+        }
+    }
+    assert!(s["cautions"].as_array().unwrap().len() >= 2);
+}
+
+#[tokio::test]
+async fn the_double_session_day_triggers_speedy_refuelling() {
+    let app = spawn_app().await;
+    let team = demo(&app).await;
+    let (starters, _) = match_participants(&app, team).await;
+    let res = app
+        .get(
+            &format!("/v1/athletes/{}/plan?from={MONDAY}", starters[0]),
+            &app.admin,
+        )
+        .await;
+    assert_eq!(res.status(), 200);
+    let plan: Value = res.json().await.unwrap();
+    let monday = &plan["plan"]["days"][0]["plan"];
+    let first = &monday["sessions"][0];
+    // Thomas, Erdman & Burke (2016): under 8 h between sessions, 1.0-1.2 g/kg/h
+    // for the first 4 h (speedy refuelling).
+    assert_eq!(first["after"]["guidance"], "speedy_refuelling", "{first}");
+    let range = &first["after"]["range_g_per_kg_per_hour"];
+    assert!(
+        range["min"].as_f64().unwrap() >= 1.0 - 1e-9
+            && range["max"].as_f64().unwrap() <= 1.2 + 1e-9
+    );
+}
+
+#[tokio::test]
+async fn a_substitute_gets_less_carbohydrate_and_energy_than_a_starter_on_match_day() {
+    let app = spawn_app().await;
+    let team = demo(&app).await;
+    let s = summary(&app, team).await;
+    let (starters, subs) = match_participants(&app, team).await;
+    assert!(!subs.is_empty());
+    let per_kg = |id: &str| {
+        row(&s, id, &day(5))["carbohydrate_g_per_kg"]
+            .as_f64()
+            .unwrap()
+    };
+    let minutes = |id: &str| row(&s, id, &day(5))["training_minutes"].as_f64().unwrap();
+    let starter_max_minutes = starters.iter().map(|a| minutes(a)).fold(0.0, f64::max);
+    let mean = |ids: &[String]| ids.iter().map(|a| per_kg(a)).sum::<f64>() / ids.len() as f64;
+    assert!(
+        mean(&subs) < mean(&starters),
+        "substitutes {} g/kg vs starters {} g/kg",
+        mean(&subs),
+        mean(&starters)
+    );
+    for sub in &subs {
+        assert!(minutes(sub) < starter_max_minutes);
+    }
+}
+
+#[tokio::test]
+async fn the_csv_parses_and_its_daily_totals_equal_the_sum_of_its_rows() {
+    let app = spawn_app().await;
+    let team = demo(&app).await;
+    let res = app
+        .get(
+            &format!("/v1/teams/{team}/plan/summary.csv?from={MONDAY}"),
+            &app.admin,
+        )
+        .await;
+    assert_eq!(res.status(), 200);
+    assert!(
+        res.headers()["content-type"]
+            .to_str()
+            .unwrap()
+            .starts_with("text/csv")
+    );
+    let text = res.text().await.unwrap();
+    let mut reader = csv::Reader::from_reader(text.as_bytes());
+    let headers = reader.headers().unwrap().clone();
+    let col = |name: &str| headers.iter().position(|h| h == name).unwrap();
+    let mut sums: std::collections::BTreeMap<String, [f64; 4]> = Default::default();
+    let mut totals: std::collections::BTreeMap<String, [f64; 4]> = Default::default();
+    let mut athlete_rows = 0;
+    for record in reader.records() {
+        let record = record.unwrap();
+        let values = ["carbohydrate_g", "protein_g", "fat_g", "energy_kcal"]
+            .map(|c| record[col(c)].parse::<f64>().unwrap());
+        let date = record[col("date")].to_owned();
+        if &record[col("athlete")] == "TOTAL" {
+            totals.insert(date, values);
+        } else {
+            athlete_rows += 1;
+            let s = sums.entry(date).or_default();
+            for i in 0..4 {
+                s[i] += values[i];
+            }
+        }
+    }
+    assert_eq!(athlete_rows, 25 * 7);
+    assert_eq!(totals.len(), 7);
+    for (date, total) in &totals {
+        let sum = sums[date];
+        for i in 0..4 {
+            assert!(
+                (total[i] - sum[i]).abs() < 0.51,
+                "{date} column {i}: total {} vs rows {}",
+                total[i],
+                sum[i]
+            );
+        }
+    }
+}
+
+#[tokio::test]
+async fn the_plan_etag_changes_exactly_when_an_input_changes() {
+    let app = spawn_app().await;
+    let team = demo(&app).await;
+    let path = format!("/v1/teams/{team}/plan/summary?from={MONDAY}");
+    let first = app.get(&path, &app.admin).await;
+    let etag = first.headers()["etag"].to_str().unwrap().to_owned();
+    let again = app.get(&path, &app.admin).await;
+    assert_eq!(again.headers()["etag"], etag.as_str());
+    let cached = app
+        .req(Method::GET, &path, Some(&app.admin))
+        .header("if-none-match", &etag)
+        .send()
+        .await
+        .unwrap();
+    assert_eq!(cached.status(), 304);
+    // Move a session: the next plan has a new version.
+    let sessions: Value = app
+        .get(
+            &format!("/v1/teams/{team}/sessions?kind=strength"),
+            &app.admin,
+        )
+        .await
+        .json()
+        .await
+        .unwrap();
+    let session = sessions["items"][0]["id"].as_str().unwrap();
+    let moved = app
+        .patch(
+            &format!("/v1/sessions/{session}"),
+            &app.admin,
+            &json!({"start_time": "17:30"}),
+            None,
+        )
+        .await;
+    assert_eq!(moved.status(), 200);
+    let after = app
+        .req(Method::GET, &path, Some(&app.admin))
+        .header("if-none-match", &etag)
+        .send()
+        .await
+        .unwrap();
+    assert_eq!(after.status(), 200);
+    assert_ne!(after.headers()["etag"], etag.as_str());
+}
+
+#[tokio::test]
+async fn moving_the_match_shows_what_changed_in_the_plan() {
+    let app = spawn_app().await;
+    let team = demo(&app).await;
+    let before = summary(&app, team).await;
+    let version = before["version"].as_str().unwrap().to_owned();
+    let sessions: Value = app
+        .get(&format!("/v1/teams/{team}/sessions?kind=match"), &app.admin)
+        .await
+        .json()
+        .await
+        .unwrap();
+    let session = sessions["items"][0]["id"].as_str().unwrap();
+    let moved = app
+        .patch(
+            &format!("/v1/sessions/{session}"),
+            &app.admin,
+            &json!({"local_date": day(6)}),
+            None,
+        )
+        .await;
+    assert_eq!(moved.status(), 200);
+    let res = app
+        .get(
+            &format!("/v1/teams/{team}/plan/changes?since_version={version}&from={MONDAY}"),
+            &app.admin,
+        )
+        .await;
+    assert_eq!(res.status(), 200);
+    let changes: Value = res.json().await.unwrap();
+    assert_eq!(changes["input_changes"].as_array().unwrap().len(), 1);
+    assert_eq!(changes["input_changes"][0]["entity_id"], session);
+    let days = changes["days"].as_array().unwrap();
+    assert!(days.iter().any(|d| d["date"] == day(5)), "Saturday changed");
+    assert!(days.iter().any(|d| d["date"] == day(6)), "Sunday changed");
+    // An unknown version is a clear error, not an empty diff.
+    let bad = app
+        .get(
+            &format!("/v1/teams/{team}/plan/changes?since_version=999999&from={MONDAY}"),
+            &app.admin,
+        )
+        .await;
+    let p = problem(bad, 422).await;
+    assert_eq!(fields(&p), vec!["since_version"]);
+}
+
+#[tokio::test]
+async fn the_changes_feed_pages_with_its_cursor() {
+    let app = spawn_app().await;
+    let team = demo(&app).await;
+    let first: Value = app
+        .get(&format!("/v1/teams/{team}/changes?limit=5"), &app.admin)
+        .await
+        .json()
+        .await
+        .unwrap();
+    assert_eq!(first["changes"].as_array().unwrap().len(), 5);
+    let next = first["next_since"].as_i64().unwrap();
+    let second: Value = app
+        .get(
+            &format!("/v1/teams/{team}/changes?since={next}&limit=5"),
+            &app.admin,
+        )
+        .await
+        .json()
+        .await
+        .unwrap();
+    assert!(second["changes"][0]["seq"].as_i64().unwrap() > next);
+    assert!(
+        second["changes"][0].get("after").is_none(),
+        "the feed carries no values"
+    );
+}
+
+#[tokio::test]
+async fn the_calendar_feed_parses_and_keeps_local_times_across_a_clock_change() {
+    let app = spawn_app().await;
+    let team = app.team("DST squad").await;
+    let athlete = app.athlete(team, "Clock Change").await;
+    // Europe/London moves from GMT to BST on Sunday 2027-03-28.
+    for date in ["2027-03-26", "2027-03-29"] {
+        let res = app
+            .post(
+                &format!("/v1/teams/{team}/sessions"),
+                &app.admin,
+                &session_body(date, "10:00"),
+            )
+            .await;
+        assert_eq!(res.status(), 201);
+    }
+    let created: Value = app
+        .post(
+            &format!("/v1/athletes/{athlete}/calendar-feeds"),
+            &app.admin,
+            &json!({}),
+        )
+        .await
+        .json()
+        .await
+        .unwrap();
+    let path = created["path"].as_str().unwrap();
+    let res = app
+        .req(
+            Method::GET,
+            &format!("{path}?from=2027-03-25&to=2027-03-30"),
+            None,
+        )
+        .send()
+        .await
+        .unwrap();
+    assert_eq!(res.status(), 200);
+    assert!(
+        res.headers()["content-type"]
+            .to_str()
+            .unwrap()
+            .starts_with("text/calendar")
+    );
+    let text = res.text().await.unwrap();
+    let calendar: icalendar::Calendar = text.parse().expect("RFC 5545 parses");
+    let starts: Vec<String> = calendar
+        .components
+        .iter()
+        .filter_map(|c| c.as_event())
+        .filter(|e| {
+            icalendar::Component::get_summary(*e).is_some_and(|s| s.contains("Pitch session"))
+        })
+        .filter_map(|e| icalendar::Component::property_value(e, "DTSTART").map(str::to_owned))
+        .collect();
+    // 10:00 local is 10:00 UTC in GMT and 09:00 UTC in BST.
+    assert!(
+        starts.contains(&"20270326T100000Z".to_owned()),
+        "{starts:?}"
+    );
+    assert!(
+        starts.contains(&"20270329T090000Z".to_owned()),
+        "{starts:?}"
+    );
+    // Revoked links stop working at once.
+    let feed = created["id"].as_str().unwrap();
+    let revoked = app
+        .delete(
+            &format!("/v1/athletes/{athlete}/calendar-feeds/{feed}"),
+            &app.admin,
+            None,
+        )
+        .await;
+    assert_eq!(revoked.status(), 204);
+    let gone = app.req(Method::GET, path, None).send().await.unwrap();
+    problem(gone, 404).await;
+}
+
+#[tokio::test]
+async fn plans_of_another_team_are_not_visible() {
+    let app = spawn_app().await;
+    let team = demo(&app).await;
+    let other = app.team("Other").await;
+    let reader = app.token("reader", other).await;
+    for path in [
+        format!("/v1/teams/{team}/plan"),
+        format!("/v1/teams/{team}/plan/summary"),
+        format!("/v1/teams/{team}/plan/summary.csv"),
+        format!("/v1/teams/{team}/changes"),
+    ] {
+        let res = app.get(&path, &reader).await;
+        problem(res, 404).await;
+    }
+}
