@@ -141,8 +141,10 @@ fn session(
 /// 15:00 Saturday match.
 pub fn senior_week(monday: NaiveDate) -> Vec<SessionInput> {
     let day = |n: u64| monday.checked_add_days(Days::new(n)).expect("date");
-    let mut pre_match_training = session(
-        day(1),
+    // A deliberately low-carbohydrate aerobic ride on the light day, well
+    // away from the key sessions (the plan warns when it is not).
+    let mut train_low_ride = session(
+        day(2),
         "07:30",
         SessionKind::Training,
         "Early aerobic ride (train low)",
@@ -153,7 +155,7 @@ pub fn senior_week(monday: NaiveDate) -> Vec<SessionInput> {
             Intensity::Cycling { watts: 170.0 },
         )],
     );
-    pre_match_training.train_low = true;
+    train_low_ride.train_low = true;
     vec![
         session(
             day(0),
@@ -184,7 +186,7 @@ pub fn senior_week(monday: NaiveDate) -> Vec<SessionInput> {
                 activity("resistance_vigorous"),
             )],
         ),
-        pre_match_training,
+        train_low_ride,
         session(
             day(1),
             "11:00",
@@ -208,7 +210,7 @@ pub fn senior_week(monday: NaiveDate) -> Vec<SessionInput> {
         ),
         session(
             day(2),
-            "10:30",
+            "16:00",
             SessionKind::Recovery,
             "Pool and mobility",
             false,

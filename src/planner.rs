@@ -186,9 +186,13 @@ pub fn week_input(
         .map(Vec::as_slice)
         .unwrap_or(&[]);
     let (profile, note) = profile_on(athlete, readings, options.span.0).map_err(|e| vec![e])?;
+    // Travel is planned by coaches but is not training: its small energy
+    // cost sits inside the non-exercise activity factor, and it neither sets
+    // the day's load band nor needs refuelling around it.
     let sessions = data
         .sessions
         .iter()
+        .filter(|session| session.kind != crate::engine::profile::SessionKind::Travel)
         .filter_map(|session| {
             let exception = data.participation.get(&(session.id, athlete.id));
             let segments = segments_for(session, exception)?;

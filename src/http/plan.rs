@@ -28,6 +28,7 @@ use crate::domain::athlete::Athlete;
 use crate::domain::team::Team;
 use crate::engine::day_targets::LoadBand;
 use crate::engine::energy_availability::EnergyAvailabilityBand;
+use crate::engine::plan_notes::Severity;
 use crate::engine::week::{WeekPlan, WeekThresholds, WeekWarning};
 use crate::error::{ApiError, Result};
 use crate::planner::{self, AthleteWeek, LOOK_AHEAD_DAYS, LOOK_BEHIND_DAYS, PlanOptions, TeamData};
@@ -210,8 +211,8 @@ pub struct TeamPlan {
     pub time_zone: String,
     pub from: NaiveDate,
     pub to: NaiveDate,
-    /// The inputs' version (also the `ETag`).
-    pub version: String,
+    /// The inputs' version; pass it to `/plan/changes` after a change.
+    pub version: i64,
     pub athletes: Vec<AthletePlan>,
     pub cautions: Vec<String>,
 }
@@ -282,7 +283,7 @@ async fn team_plan(
         time_zone: data.team.time_zone.clone(),
         from: span.0,
         to: span.1,
-        version: etag.trim_matches('"').to_owned(),
+        version,
         athletes,
         cautions: planner::general_cautions(),
     };
@@ -314,7 +315,8 @@ pub struct SummaryRow {
     pub muscle_glycogen_end: f64,
     /// The lowest estimated muscle glycogen fraction at the start of any session that day.
     pub lowest_session_start_glycogen: Option<f64>,
-    /// Codes of the day's warnings (day plan and week checks).
+    /// Codes of the day's warnings and safety flags (day plan and week
+    /// checks); notices are in the full plan only.
     pub warnings: Vec<String>,
 }
 
@@ -333,11 +335,16 @@ fn summary_rows(weeks: &[AthleteWeek]) -> Vec<SummaryRow> {
         let Ok(plan) = &week.plan else { continue };
         for day in &plan.days {
             let p = &day.plan;
-            let mut warnings: Vec<String> = p.warnings.iter().map(|w| label(&w.code)).collect();
+            let mut warnings: Vec<String> = p
+                .warnings
+                .iter()
+                .filter(|w| w.severity != Severity::Notice)
+                .map(|w| label(&w.code))
+                .collect();
             warnings.extend(
                 plan.warnings
                     .iter()
-                    .filter(|w| w.date == day.date)
+                    .filter(|w| w.date == day.date && w.severity != Severity::Notice)
                     .map(|w| label(&w.code)),
             );
             warnings.sort();
@@ -401,8 +408,8 @@ pub struct TeamSummary {
     pub team_id: Uuid,
     pub from: NaiveDate,
     pub to: NaiveDate,
-    /// The inputs' version (also the `ETag`); pass it to `/plan/changes` later.
-    pub version: String,
+    /// The inputs' version; pass it to `/plan/changes` after a change.
+    pub version: i64,
     /// One row per athlete and day.
     pub rows: Vec<SummaryRow>,
     /// Athletes without a plan and why.
@@ -458,7 +465,7 @@ async fn team_summary(
         team_id,
         from: span.0,
         to: span.1,
-        version: version.to_string(),
+        version,
         rows: summary_rows(&weeks),
         unplanned: unplanned(&weeks),
         warnings: weeks

@@ -259,7 +259,7 @@ async fn moving_the_match_shows_what_changed_in_the_plan() {
     let app = spawn_app().await;
     let team = demo(&app).await;
     let before = summary(&app, team).await;
-    let version = before["version"].as_str().unwrap().to_owned();
+    let version = before["version"].as_i64().unwrap();
     let sessions: Value = app
         .get(&format!("/v1/teams/{team}/sessions?kind=match"), &app.admin)
         .await
