@@ -211,8 +211,10 @@ pub fn week_input(
             })
         })
         .collect();
+    // The profile carries the mass on `from`; later readings change it day by day.
     let body_mass_by_date = readings
         .iter()
+        .filter(|(date, _)| *date > options.span.0 && *date <= options.span.1)
         .map(|(date, kg)| BodyMassEntry {
             date: *date,
             body_mass_kg: *kg,

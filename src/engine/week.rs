@@ -12,6 +12,8 @@
 //!   [`DayPlan`], glycogen at the start and end of the day and of each
 //!   session, where the carbohydrate went), an hourly [`GlycogenPoint`]
 //!   series for charts, [`WeekWarning`]s with a cause and a fix, and cautions.
+//! - [`plan_week_with_model`]: the same with other glycogen-balance
+//!   parameters, for sensitivity checks.
 //!
 //! ## Order of work for each day
 //!
@@ -250,7 +252,7 @@ pub struct WeekInput {
     pub athlete_id: Option<Uuid>,
     /// The athlete; `body_mass_kg` applies from the first day.
     pub profile: AthleteProfile,
-    /// Planned body mass from given dates on (dates unique, at most `to`).
+    /// Planned body mass from given dates on (dates unique, after `from`, at most `to`).
     #[serde(default)]
     pub body_mass_by_date: Vec<BodyMassEntry>,
     /// First planned date (local).
@@ -1471,8 +1473,11 @@ fn validate(input: &WeekInput) -> Result<ResolvedAthlete, InvalidInput> {
                 "must be above profile.fat_free_mass_kg",
             );
         }
-        if entry.date > input.to {
-            issues.push(format!("{at}.date"), "must not be after to");
+        if entry.date <= input.from || entry.date > input.to {
+            issues.push(
+                format!("{at}.date"),
+                "must be after from (the profile's body mass applies on from) and not after to",
+            );
         }
         if mass_dates.contains(&entry.date) {
             issues.push(format!("{at}.date"), "dates must be unique");

@@ -58,7 +58,7 @@ pub struct PlanParams {
     /// An ISO week such as `2026-W50`, instead of `from`/`to`.
     week: Option<String>,
     /// Muscle and liver glycogen at the start as a fraction of capacity
-    /// (0.2 to 1.3); default: normal stores after a rest day.
+    /// (0.2 to 1.0); default: normal stores after a rest day.
     start_glycogen_fraction: Option<f64>,
     /// Include each session's minute-by-minute fuel result (larger response).
     include_session_fuel: Option<bool>,
@@ -153,7 +153,7 @@ async fn compute(
     only: Option<Uuid>,
 ) -> Result<(TeamData, Vec<AthleteWeek>)> {
     if let Some(f) = q.start_glycogen_fraction {
-        if !(0.2..=1.3).contains(&f) {
+        if !(0.2..=1.0).contains(&f) {
             return Err(ApiError::field(
                 "start_glycogen_fraction",
                 "must be between 0.2 and 1.3",

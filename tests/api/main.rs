@@ -7,6 +7,7 @@ mod helpers;
 mod athletes;
 mod basics;
 mod durability;
+mod faults;
 mod malformed;
 mod openapi_doc;
 mod participation;

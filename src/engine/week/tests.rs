@@ -516,6 +516,10 @@ fn invalid_input_names_every_field() {
         protein_g_per_kg: None,
         energy_kcal: None,
     }];
+    week.body_mass_by_date = vec![BodyMassEntry {
+        date: day(0),
+        body_mass_kg: 20.0,
+    }];
     week.start_glycogen = Some(GlycogenState {
         muscle_g: 900.0,
         liver_g: 50.0,
@@ -536,6 +540,8 @@ fn invalid_input_names_every_field() {
         "pins[0].carbohydrate_g_per_kg",
         "thresholds.near_empty_muscle_fraction",
         "start_glycogen.muscle_g",
+        "body_mass_by_date[0].date",
+        "body_mass_by_date[0].body_mass_kg",
     ] {
         assert!(
             fields.contains(&expected),
@@ -584,6 +590,11 @@ fn input_and_output_are_json() {
             .unwrap();
         assert!((6.0..=8.0).contains(&g), "{g}");
     }
+    // The full session simulation on request.
+    let mut detailed = week.clone();
+    detailed.include_session_fuel = true;
+    let out = serde_json::to_value(plan_week(&detailed).unwrap()).unwrap();
+    assert!(out["days"][5]["sessions"][0]["fuel"]["time_series"].is_array());
     let mut unknown = json;
     unknown["surprise"] = serde_json::json!(1);
     assert!(serde_json::from_value::<WeekInput>(unknown).is_err());
