@@ -293,7 +293,7 @@ pub(crate) mod tests {
     #[test]
     fn tanaka_and_fox_agree_at_forty() {
         // Tanaka et al. (2001) J Am Coll Cardiol 37:153: 208 - 0.7 x 40 = 180;
-        // the older 220 - age gives the same at 40 (domain.md [confirmed]).
+        // the older 220 - age gives the same at 40 ([confirmed]).
         assert!((tanaka_hr_max(40.0) - 180.0).abs() < 1e-9);
         assert!((tanaka_hr_max(40.0) - (220.0 - 40.0)).abs() < 1e-9);
     }

@@ -283,7 +283,7 @@ mod tests {
     #[test]
     fn compendium_values_for_confirmed_entries() {
         // Compendium of Physical Activities, Ainsworth et al. (2011) Med Sci
-        // Sports Exerc 43:1575; code and MET values [confirmed] in domain.md.
+        // Sports Exerc 43:1575; code and MET values [confirmed].
         let expected = [
             ("football_match", "15605", 10.0),
             ("football_training", "15610", 7.0),

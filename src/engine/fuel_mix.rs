@@ -33,8 +33,8 @@
 //! 2. **Glycogen term** `(clamp(relative muscle glycogen, 0.2, 1.6))^0.6`, where
 //!    relative muscle glycogen is the current whole-body store over the athlete's
 //!    normal store (1 = normal, above 1 after carbohydrate loading). Low glycogen
-//!    shifts the mix toward fat, loaded glycogen toward carbohydrate (domain.md
-//!    section 3). It is the mechanism of the drift within a session, because each
+//!    shifts the mix toward fat, loaded glycogen toward carbohydrate
+//!    (common practice). It is the mechanism of the drift within a session, because each
 //!    step's carbohydrate use draws the store down. The exponent 0.6 and the
 //!    clamp are calibration values of ours (`common practice` figures below), not
 //!    published constants.
@@ -44,7 +44,7 @@
 //!    half done at two hours (-7.5%) and levels off toward -15%. The 0.15 and
 //!    120 minutes are calibration values of ours.
 //!
-//! Calibration targets for the drift (`common practice`, domain.md section 3):
+//! Calibration targets for the drift (`common practice`):
 //! at about 50% VO2max carbohydrate is slightly above fat at the start, the two
 //! are about equal near one hour, and fat clearly dominates by two to three
 //! hours; the same direction holds at 65%. The session tests check this with a
@@ -74,8 +74,7 @@
 //! intensity most carbohydrate is blood glucose; muscle glycogen takes over as
 //! intensity rises (Romijn et al. 1993, `from memory`: anchors 90% at 20%
 //! VO2max, 85% at 25%, 45% at 45%, 22% at 65%, 17% at 85%, 12% at 100%). Over a
-//! long session blood glucose supplies a growing part (domain.md section 3,
-//! `common practice`): the muscle part moves toward blood glucose by up to 50%,
+//! long session blood glucose supplies a growing part (//! `common practice`): the muscle part moves toward blood glucose by up to 50%,
 //! along the same slow curve `r(t)` with `x = t / 180 min` (10% of the way at
 //! 90 minutes, 25% at three hours, 32% at four; our calibration).
 
@@ -219,7 +218,7 @@ mod tests {
 
     #[test]
     fn fat_is_the_larger_share_at_low_intensity() {
-        // Textbook figure (common practice, domain.md section 3): at ~20-25%
+        // Textbook figure (common practice): at ~20-25%
         // VO2max fat supplies the larger share, about 60%.
         for status in [TrainingStatus::Recreational, TrainingStatus::Trained] {
             for fraction in [0.20, 0.25] {

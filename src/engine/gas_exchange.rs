@@ -44,7 +44,7 @@ pub fn weir_kcal_per_min(vo2_l_per_min: f64, vco2_l_per_min: f64) -> f64 {
 }
 
 /// NPRQ, kcal per L O2, fraction of energy from carbohydrate: Zuntz (1901) as
-/// tabulated by Lusk (1924), the rows printed in domain.md section 2.
+/// tabulated by Lusk (1924), the rows printed in .
 const NPRQ_TABLE: [(f64, f64, f64); 7] = [
     (0.707, 4.686, 0.0),
     (0.75, 4.739, 0.156),
@@ -164,14 +164,14 @@ mod tests {
 
     #[test]
     fn weir_worked_example() {
-        // Weir (1949) J Physiol 109:1; worked example in domain.md [confirmed]:
+        // Weir (1949) J Physiol 109:1; worked example in [confirmed]:
         // VO2 3.0, VCO2 2.7 L/min gives 14.809 kcal/min.
         assert!(close(weir_kcal_per_min(3.0, 2.7), 14.809, 0.001));
     }
 
     #[test]
     fn zuntz_lusk_rows_are_reproduced() {
-        // Zuntz (1901) / Lusk (1924) NPRQ table rows [confirmed], domain.md section 2.
+        // Zuntz (1901) / Lusk (1924) NPRQ table rows [confirmed].
         let rows = [
             (0.707, 4.686, 0.0),
             (0.75, 4.739, 0.156),
@@ -218,7 +218,7 @@ mod tests {
 
     #[test]
     fn frayn_worked_example() {
-        // Frayn (1983) J Appl Physiol 55:628; domain.md worked example [confirmed]:
+        // Frayn (1983) J Appl Physiol 55:628; worked example [confirmed]:
         // VO2 3.0, VCO2 2.7, n 0 gives CHO 2.655 g/min, fat 0.501 g/min.
         let oxidation = frayn_oxidation(3.0, 2.7, 0.0);
         assert!(close(oxidation.carbohydrate_g_per_min, 2.655, 0.0005));
@@ -228,7 +228,7 @@ mod tests {
     #[test]
     fn jeukendrup_wallis_worked_example() {
         // Jeukendrup & Wallis (2005) Int J Sports Med 26:S28, 50-75% VO2max;
-        // domain.md worked example [confirmed]: CHO 2.481 g/min, fat 0.492 g/min.
+        // worked example [confirmed]: CHO 2.481 g/min, fat 0.492 g/min.
         let oxidation = jeukendrup_wallis_oxidation(3.0, 2.7, ExerciseBand::ModerateToHigh);
         assert!(close(oxidation.carbohydrate_g_per_min, 2.481, 0.0005));
         assert!(close(oxidation.fat_g_per_min, 0.492, 0.0005));

@@ -134,14 +134,13 @@ mod tests {
 
     #[test]
     fn domain_worked_example() {
-        // domain.md section 4: 28 kg muscle x 100 mmol/kg x 0.162 g = 453.6 g.
+        // 28 kg muscle x 100 mmol/kg x 0.162 g = 453.6 g.
         assert!((muscle_glycogen_g(28.0, 100.0) - 453.6).abs() < 1e-9);
     }
 
     #[test]
     fn seventy_kg_adult_holds_about_four_hundred_grams() {
-        // About 400 g muscle glycogen in a 70 kg adult [confirmed, domain.md
-        // section 4]; a recreational man: 26.6 kg x 90 x 0.162 = 388 g.
+        // About 400 g muscle glycogen in a 70 kg adult [confirmed]; a recreational man: 26.6 kg x 90 x 0.162 = 388 g.
         let capacity = glycogen_capacity(Sex::Male, 70.0, TrainingStatus::Recreational);
         assert!(
             (capacity.muscle_g - 400.0).abs() < 40.0,
@@ -161,7 +160,8 @@ mod tests {
         // Janssen et al. (2000): 31% vs 38% of body mass (from memory).
         let female = glycogen_capacity(Sex::Female, 75.0, TrainingStatus::Trained);
         assert!((female.muscle_mass_kg / trained.muscle_mass_kg - 0.31 / 0.38).abs() < 1e-9);
-        // Concentrations stay inside the from-memory ranges of domain.md.
+        // Concentrations stay inside the from-memory ranges (80-100 untrained,
+        // 120-150 trained, mmol/kg wet muscle).
         assert!((80.0..=100.0).contains(&recreational.muscle_concentration_mmol_per_kg));
         assert!((120.0..=150.0).contains(&trained.muscle_concentration_mmol_per_kg));
         assert!((120.0..=150.0).contains(&highly.muscle_concentration_mmol_per_kg));

@@ -15,8 +15,8 @@
 //!    (a large mixed meal takes several hours to empty from the stomach and be
 //!    absorbed; `from memory`); 90 g/h is
 //!    the top intake rate of the position stand for long sessions with multiple
-//!    transportable carbohydrates (Thomas, Erdman & Burke 2016; domain.md
-//!    section 5), used as the ceiling of intestinal absorption. Grams of
+//!    transportable carbohydrates (Thomas, Erdman & Burke
+//!    2016), used as the ceiling of intestinal absorption. Grams of
 //!    dietary carbohydrate count as grams of glycogen (starch and glycogen share
 //!    the glucosyl unit).
 //! 2. **Session draw.** During a session's clock time the muscle loses the
@@ -34,7 +34,7 @@
 //!    glycogenolysis of about 4.3 umol/kg/min in the first hours of a fast
 //!    (Rothman et al. 1991, Science 254:573, `from memory`). That is about
 //!    3.4 g/h for 70 kg, some 40 g over a 12-hour night: an overnight fast
-//!    draws the liver down substantially (domain.md section 4, `common
+//!    draws the liver down substantially (`common
 //!    practice`). Within a session the session's own use replaces the resting
 //!    use for the athlete's minutes of work.
 //! 4. **Resynthesis.** What is absorbed beyond that refills muscle and liver,
@@ -42,8 +42,7 @@
 //!    - muscle: 8 mmol glucosyl units per kg wet muscle per hour in the first
 //!      2 h after a session, 4.5 later. The range 5-10 mmol/kg/h with about
 //!      1.0-1.2 g carbohydrate per kg per hour early after exercise is
-//!      confirmed (Ivy 2004; Alghannam et al. 2018, Nutrients 10:253; domain.md
-//!      section 4); that delaying intake by 2 h roughly halves the rate is
+//!      confirmed (Ivy 2004; Alghannam et al. 2018, Nutrients 10:253); that delaying intake by 2 h roughly halves the rate is
 //!      Ivy et al. (1988, J Appl Physiol 64:1480), `from memory`. The ceiling
 //!      applies to the whole-body muscle mass of [`super::glycogen`] and is off
 //!      while a session runs.
@@ -63,7 +62,7 @@
 //! Costill et al. (1981, Am J Clin Nutr 34:1831, `from memory`: about 525-650 g
 //! carbohydrate a day restored muscle glycogen within 24 h after strenuous
 //! running, about 190 g did not) and the position stand's "about 24 h with
-//! adequate intake" (domain.md section 4, `common practice`). The tests in
+//! adequate intake" (`common practice`). The tests in
 //! [`super::week`] check both.
 //!
 //! Limits: whole-body stores only (the working muscles empty faster than the

@@ -285,7 +285,7 @@ mod tests {
 
     #[test]
     fn acsm_running_worked_example() {
-        // ACSM running equation, 10 km/h level = 36.83 mL/kg/min (domain.md [confirmed]).
+        // ACSM running equation, 10 km/h level = 36.83 mL/kg/min ([confirmed]).
         assert!((acsm_running(10.0, 0.0) - 36.83).abs() < 0.005);
         // Same equation with a 5% grade: 166.67 x (0.2 + 0.9 x 0.05) + 3.5 = 44.33.
         assert!((acsm_running(10.0, 5.0) - 44.333).abs() < 0.005);

@@ -38,7 +38,7 @@ pub const MAX_SESSION_MINUTES: f64 = 600.0;
 pub const MAX_SEGMENTS: usize = 200;
 /// Time-series spacing, minutes.
 pub const SERIES_INTERVAL_MINUTES: f64 = 5.0;
-/// Sustained-intensity check (`common practice`, domain.md section 3): around
+/// Sustained-intensity check (`common practice`): around
 /// 80% VO2max and above is beyond the lactate threshold for most athletes.
 pub const SUSTAINED_FRACTION_VO2MAX: f64 = 0.80;
 /// Continuous minutes at or above [`SUSTAINED_FRACTION_VO2MAX`] that trigger a warning.
@@ -223,7 +223,7 @@ pub(crate) fn validate_segments(segments: &[Segment], issues: &mut Issues) {
 
 fn validate_start_glycogen(athlete: &ResolvedAthlete, state: &GlycogenState, issues: &mut Issues) {
     // Up to twice normal muscle stores covers carbohydrate loading (about
-    // 180-200+ vs 120-150 mmol/kg trained, domain.md section 4).
+    // 180-200+ vs 120-150 mmol/kg trained).
     let muscle_max = (2.0 * athlete.glycogen_capacity.muscle_g).round();
     issues.range(
         "start_glycogen.muscle_g",
@@ -519,7 +519,7 @@ mod tests {
     #[test]
     fn ten_mets_for_ninety_minutes_is_about_1050_kcal() {
         // Compendium (Ainsworth et al. 2011): 1 MET ~ 1 kcal/kg/h, so 70 kg x
-        // 1.5 h x 10 METs = 1050 kcal gross (domain.md [confirmed]). The Zuntz/Lusk
+        // 1.5 h x 10 METs = 1050 kcal gross ([confirmed]). The Zuntz/Lusk
         // energy per litre O2 (4.69-5.05 kcal) makes 1 MET 0.98-1.06 kcal/kg/h,
         // so allow 5%.
         let segments = [segment(90.0, Intensity::Mets { mets: 10.0 })];
@@ -535,7 +535,7 @@ mod tests {
 
     #[test]
     fn drift_at_fifty_percent() {
-        // Common practice (domain.md section 3): at ~50% VO2max carbohydrate is
+        // Common practice : at ~50% VO2max carbohydrate is
         // slightly above fat at the start, about equal near one hour, and fat
         // clearly dominates by two to three hours.
         let result = simulate_session(&trained_profile(), &steady(180.0, 0.5), None).unwrap();
@@ -557,7 +557,7 @@ mod tests {
 
     #[test]
     fn drift_at_sixty_five_percent_goes_the_same_way() {
-        // Common practice (domain.md section 3): the same trend at any sustainable
+        // Common practice : the same trend at any sustainable
         // intensity.
         let result = simulate_session(&trained_profile(), &steady(120.0, 0.65), None).unwrap();
         let shares: Vec<f64> = result

@@ -24,6 +24,7 @@ pub fn router() -> OpenApiRouter<AppState> {
         .routes(routes!(get_athlete, update_athlete, delete_athlete))
         .routes(routes!(list_body_mass, add_body_mass))
         .routes(routes!(get_body_mass, delete_body_mass))
+        .routes(routes!(export_athlete))
 }
 
 /// Which athletes a list returns.
@@ -291,4 +292,55 @@ async fn delete_body_mass(
     caller.write(team_id, "athlete")?;
     athletes::delete_body_mass(&state.db, caller.actor(), team_id, &mass).await?;
     Ok(StatusCode::NO_CONTENT.into_response())
+}
+
+/// Everything stored about one athlete (a data-protection export).
+#[derive(Debug, serde::Serialize, ToSchema)]
+pub struct AthleteExport {
+    pub exported_at: chrono::DateTime<chrono::Utc>,
+    pub athlete: Athlete,
+    pub body_mass: Vec<BodyMass>,
+    pub participation: Vec<crate::domain::session::Participation>,
+    pub pins: Vec<crate::store::planning::DayPin>,
+    pub sweat_tests: Vec<crate::store::planning::SweatTest>,
+    pub calendar_feeds: Vec<crate::store::planning::CalendarFeed>,
+    /// Changes recorded about the athlete, with their values.
+    pub audit: Vec<crate::store::audit::AuditEntry>,
+}
+
+/// Export everything stored about an athlete (body data is health data:
+/// planners only). Erase with `DELETE /v1/athletes/{athlete_id}`.
+#[utoipa::path(get, path = "/v1/athletes/{athlete_id}/export", tag = "athletes",
+    params(("athlete_id" = Uuid, Path)),
+    responses((status = 200, description = "Every stored record about the athlete", body = AthleteExport)))]
+async fn export_athlete(
+    State(state): State<AppState>,
+    caller: Caller,
+    PathIds(id): PathIds<Uuid>,
+) -> Result<Response> {
+    let athlete = visible_athlete(&state, &caller, id).await?;
+    caller.write(athlete.team_id, "athlete")?;
+    let records = athletes::records(&state.db, id).await?;
+    let wide = (
+        NaiveDate::from_ymd_opt(1900, 1, 1).expect("valid"),
+        NaiveDate::from_ymd_opt(9999, 12, 31).expect("valid"),
+    );
+    let export = AthleteExport {
+        exported_at: chrono::Utc::now(),
+        pins: crate::store::planning::pins_for_athlete(&state.db, id, wide).await?,
+        sweat_tests: crate::store::planning::sweat_tests(&state.db, id).await?,
+        calendar_feeds: crate::store::planning::list_feeds(&state.db, id).await?,
+        athlete,
+        body_mass: records.body_mass,
+        participation: records.participation,
+        audit: records.audit,
+    };
+    let mut res = json(StatusCode::OK, &export);
+    if let Ok(v) =
+        axum::http::HeaderValue::from_str(&format!("attachment; filename=\"athlete-{id}.json\""))
+    {
+        res.headers_mut()
+            .insert(axum::http::header::CONTENT_DISPOSITION, v);
+    }
+    Ok(res)
 }

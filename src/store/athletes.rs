@@ -567,3 +567,34 @@ pub async fn team_body_mass_up_to(
         })
         .collect()
 }
+
+/// Everything stored about one athlete besides the athlete row, for a data
+/// export: body-mass readings, participation exceptions and audit entries.
+pub struct AthleteRecords {
+    pub body_mass: Vec<BodyMass>,
+    pub participation: Vec<crate::domain::session::Participation>,
+    pub audit: Vec<super::audit::AuditEntry>,
+}
+
+#[instrument(skip_all)]
+pub async fn records(db: &Db, athlete_id: Uuid) -> Result<AthleteRecords, sqlx::Error> {
+    let id = athlete_id.to_string();
+    let body_mass = sqlx::query_as!(
+        MassRow,
+        "SELECT id, athlete_id, measured_on, body_mass_kg, note, created_at FROM body_mass_measurements
+         WHERE athlete_id = ? ORDER BY measured_on",
+        id
+    )
+    .fetch_all(&db.read)
+    .await?
+    .into_iter()
+    .map(MassRow::into_mass)
+    .collect::<Result<_, _>>()?;
+    let participation = super::sessions::participation_of_athlete(db, athlete_id).await?;
+    let audit = super::audit::about(&db.read, &id).await?;
+    Ok(AthleteRecords {
+        body_mass,
+        participation,
+        audit,
+    })
+}

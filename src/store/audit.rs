@@ -173,3 +173,36 @@ pub async fn changes(
         })
         .collect()
 }
+
+/// Audit entries about one athlete (the same entries erasure blanks).
+#[instrument(skip_all)]
+pub async fn about(
+    pool: &sqlx::SqlitePool,
+    athlete_id: &str,
+) -> Result<Vec<AuditEntry>, sqlx::Error> {
+    let rows = sqlx::query!(
+        r#"SELECT seq as "seq!", occurred_at, token_id, team_id, action, entity_type, entity_id, before_json, after_json
+           FROM audit_log
+           WHERE entity_id = ?1 OR entity_id LIKE ?1 || '/%' OR entity_id LIKE '%/' || ?1
+              OR json_extract(before_json, '$.athlete_id') = ?1 OR json_extract(after_json, '$.athlete_id') = ?1
+           ORDER BY seq"#,
+        athlete_id
+    )
+    .fetch_all(pool)
+    .await?;
+    rows.into_iter()
+        .map(|r| {
+            Ok(AuditEntry {
+                seq: r.seq,
+                occurred_at: super::parse_instant(&r.occurred_at)?,
+                token_id: r.token_id.as_deref().map(super::uuid).transpose()?,
+                team_id: r.team_id.as_deref().map(super::uuid).transpose()?,
+                action: r.action,
+                entity_type: r.entity_type,
+                entity_id: r.entity_id,
+                before: r.before_json.as_deref().map(super::from_json).transpose()?,
+                after: r.after_json.as_deref().map(super::from_json).transpose()?,
+            })
+        })
+        .collect()
+}

@@ -578,3 +578,23 @@ pub async fn delete_participation(
     tx.commit().await?;
     Ok(Write::Done(()))
 }
+
+/// Every participation exception of one athlete.
+#[instrument(skip_all)]
+pub async fn participation_of_athlete(
+    db: &Db,
+    athlete_id: Uuid,
+) -> Result<Vec<Participation>, sqlx::Error> {
+    let athlete = athlete_id.to_string();
+    sqlx::query_as!(
+        ParticipationRow,
+        "SELECT session_id, athlete_id, mode, minutes, portion, segments, note, version, updated_at
+         FROM participation WHERE athlete_id = ? ORDER BY session_id",
+        athlete
+    )
+    .fetch_all(&db.read)
+    .await?
+    .into_iter()
+    .map(ParticipationRow::into_participation)
+    .collect()
+}

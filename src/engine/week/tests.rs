@@ -290,7 +290,7 @@ fn low_stores_shift_the_session_toward_fat_from_the_first_minute() {
 fn the_liver_runs_down_overnight_and_refills_by_day() {
     // Rothman et al. (1991) Science 254:573 (from memory): net hepatic
     // glycogenolysis about 3.3 g/h for 70 kg early in a fast; an overnight fast
-    // draws the liver down substantially (domain.md section 4, common practice).
+    // draws the liver down substantially (common practice).
     let plan = plan_week(&input(1, Vec::new())).unwrap();
     let bedtime = level_at(&plan, day(0).and_hms_opt(23, 0, 0).unwrap());
     let waking = level_at(&plan, day(1).and_hms_opt(7, 0, 0).unwrap());
@@ -378,7 +378,7 @@ fn a_run_of_low_energy_availability_days_is_one_safety_warning() {
 
 #[test]
 fn body_mass_changes_faster_than_the_safe_rate_are_flagged() {
-    // Common practice (domain.md section 6): planned loss faster than about
+    // Common practice : planned loss faster than about
     // 0.5-1% of body mass per week is flagged; default cap 1%/week.
     let mut week = input(13, Vec::new());
     week.body_mass_by_date = vec![BodyMassEntry {
