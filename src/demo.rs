@@ -355,7 +355,7 @@ struct Squad {
 
 fn positions(i: usize) -> &'static str {
     match i % 25 {
-        0 | 1 | 2 => "goalkeeper",
+        0..=2 => "goalkeeper",
         3..=10 => "defence",
         11..=18 => "midfield",
         _ => "attack",
@@ -446,7 +446,7 @@ pub async fn load_if_empty(db: &Db) -> Result<Option<String>, sqlx::Error> {
 
 /// Loads both squads with the week starting on `monday`.
 pub async fn load(db: &Db, monday: NaiveDate) -> Result<String, sqlx::Error> {
-    let mut dice = Dice(0x6b65_7374_7265_6c);
+    let mut dice = Dice(0x006b_6573_7472_656c);
     let squads = [
         (
             Squad {
@@ -600,7 +600,7 @@ pub async fn load(db: &Db, monday: NaiveDate) -> Result<String, sqlx::Error> {
 /// A synthetic squad of `size` senior players (names repeat past 25), for
 /// benchmarks: the same generator as the demo, without a database.
 pub fn synthetic_squad(size: usize, monday: NaiveDate) -> Vec<AthleteInput> {
-    let mut dice = Dice(0x6265_6e63_68);
+    let mut dice = Dice(0x0062_656e_6368);
     let squad = Squad {
         team: "benchmark",
         sex: Sex::Male,

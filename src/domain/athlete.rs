@@ -104,10 +104,10 @@ impl AthleteInput {
         if let Some(v) = self.hr_rest {
             issues.range("hr_rest", v, 25.0, 120.0, "beats/min");
         }
-        if let (Some(max), Some(rest)) = (self.hr_max, self.hr_rest) {
-            if rest >= max {
-                issues.push("hr_rest", "must be lower than hr_max");
-            }
+        if let (Some(max), Some(rest)) = (self.hr_max, self.hr_rest)
+            && rest >= max
+        {
+            issues.push("hr_rest", "must be lower than hr_max");
         }
         if let Some(source) = &self.vo2max {
             validate_vo2max(&mut issues, source, self.hr_max, self.hr_rest);
@@ -147,10 +147,10 @@ impl AthleteInput {
                     BODY_MASS_RANGE_KG.1,
                     "kg",
                 );
-                if let Some(fat_free) = self.fat_free_mass_kg {
-                    if fat_free >= m.body_mass_kg {
-                        issues.push("fat_free_mass_kg", "must be lower than the body mass");
-                    }
+                if let Some(fat_free) = self.fat_free_mass_kg
+                    && fat_free >= m.body_mass_kg
+                {
+                    issues.push("fat_free_mass_kg", "must be lower than the body mass");
                 }
                 if m.measured_on.is_some_and(|d| d > today) {
                     issues.push("initial_body_mass.measured_on", "must not be in the future");

@@ -149,13 +149,13 @@ async fn update_athlete(
         let input: AthleteInput = apply_merge_patch(&current.input(), &patch)?;
         let input = input.normalised();
         input.validate(today, false)?;
-        if let (Some(ffm), Some(latest)) = (input.fat_free_mass_kg, &current.latest_body_mass) {
-            if ffm >= latest.body_mass_kg {
-                return Err(ApiError::field(
-                    "fat_free_mass_kg",
-                    "must be lower than the latest body mass",
-                ));
-            }
+        if let (Some(ffm), Some(latest)) = (input.fat_free_mass_kg, &current.latest_body_mass)
+            && ffm >= latest.body_mass_kg
+        {
+            return Err(ApiError::field(
+                "fat_free_mass_kg",
+                "must be lower than the latest body mass",
+            ));
         }
         Ok(input)
     })
@@ -210,10 +210,10 @@ async fn list_body_mass(
     };
     let limit = page.limit()?;
     let after: Option<(NaiveDate, Uuid)> = page.after()?;
-    if let (Some(from), Some(to)) = (q.from, q.to) {
-        if to < from {
-            return Err(ApiError::field("to", "must not be before from"));
-        }
+    if let (Some(from), Some(to)) = (q.from, q.to)
+        && to < from
+    {
+        return Err(ApiError::field("to", "must not be before from"));
     }
     let items = athletes::list_body_mass(&state.db, id, q.from, q.to, after, limit).await?;
     Ok(json(
@@ -236,13 +236,13 @@ async fn add_body_mass(
     caller.write(athlete.team_id, "athlete")?;
     let team = super::visible_team(&state, &caller, athlete.team_id).await?;
     input.validate(team_today(&team))?;
-    if let Some(ffm) = athlete.fat_free_mass_kg {
-        if ffm >= input.body_mass_kg {
-            return Err(ApiError::field(
-                "body_mass_kg",
-                "must be above the athlete's fat-free mass",
-            ));
-        }
+    if let Some(ffm) = athlete.fat_free_mass_kg
+        && ffm >= input.body_mass_kg
+    {
+        return Err(ApiError::field(
+            "body_mass_kg",
+            "must be above the athlete's fat-free mass",
+        ));
     }
     let mass = athletes::add_body_mass(&state.db, caller.actor(), &athlete, &input).await?;
     Ok(super::created(

@@ -152,13 +152,13 @@ async fn compute(
     span: (NaiveDate, NaiveDate),
     only: Option<Uuid>,
 ) -> Result<(TeamData, Vec<AthleteWeek>)> {
-    if let Some(f) = q.start_glycogen_fraction {
-        if !(0.2..=1.0).contains(&f) {
-            return Err(ApiError::field(
-                "start_glycogen_fraction",
-                "must be between 0.2 and 1.3",
-            ));
-        }
+    if let Some(f) = q.start_glycogen_fraction
+        && !(0.2..=1.0).contains(&f)
+    {
+        return Err(ApiError::field(
+            "start_glycogen_fraction",
+            "must be between 0.2 and 1.3",
+        ));
     }
     let load_span = (
         span.0 - Days::new(LOOK_BEHIND_DAYS),

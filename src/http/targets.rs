@@ -161,7 +161,6 @@ async fn put_pin(
     if let Some(note) = &input.note {
         check_text(&mut issues, "note", note, 0, 500);
     }
-    let mut issues = issues;
     for issue in &mut issues.0 {
         issue.field = issue.field.trim_start_matches('.').to_owned();
     }
