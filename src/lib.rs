@@ -28,6 +28,7 @@ use axum::extract::DefaultBodyLimit;
 use axum::http::{HeaderName, HeaderValue, Method, StatusCode, header};
 use tokio::net::TcpListener;
 use tower_http::catch_panic::CatchPanicLayer;
+use tower_http::compression::CompressionLayer;
 use tower_http::cors::{AllowOrigin, CorsLayer};
 use tower_http::limit::RequestBodyLimitLayer;
 use tower_http::request_id::{MakeRequestUuid, PropagateRequestIdLayer, SetRequestIdLayer};
@@ -139,6 +140,8 @@ pub fn build_app(state: AppState) -> Router {
         ))
         .layer(CatchPanicLayer::new())
         .layer(axum::middleware::from_fn(http::middleware::problems))
+        // Outside the problem rewriter, which must read bodies uncompressed.
+        .layer(CompressionLayer::new().gzip(true))
         .layer(
             TraceLayer::new_for_http().make_span_with(|req: &axum::http::Request<_>| {
                 let request_id = req

@@ -47,8 +47,34 @@ pub fn api_router() -> OpenApiRouter<AppState> {
         .merge(calendar::router())
 }
 
+/// A JSON response. Numbers are rounded to 3 decimals: the engine's
+/// estimates carry no more precision than that, and 15 digits of noise make
+/// responses larger and harder to read.
 pub fn json<T: Serialize>(status: StatusCode, body: &T) -> Response {
-    (status, Json(body)).into_response()
+    match serde_json::to_value(body) {
+        Ok(mut value) => {
+            round_numbers(&mut value);
+            (status, Json(value)).into_response()
+        }
+        Err(e) => ApiError::internal(e).into_response(),
+    }
+}
+
+fn round_numbers(value: &mut serde_json::Value) {
+    use serde_json::Value;
+    match value {
+        Value::Number(n) if n.is_f64() => {
+            if let Some(x) = n.as_f64() {
+                let rounded = (x * 1000.0).round() / 1000.0;
+                if let Some(r) = serde_json::Number::from_f64(rounded) {
+                    *n = r;
+                }
+            }
+        }
+        Value::Array(items) => items.iter_mut().for_each(round_numbers),
+        Value::Object(fields) => fields.values_mut().for_each(round_numbers),
+        _ => {}
+    }
 }
 
 /// A resource with its ETag.
