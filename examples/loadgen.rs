@@ -1,0 +1,510 @@
+//! A small load generator for glycoweek, loopback only by intent.
+//!
+//! ```sh
+//! cargo run --release --example loadgen -- --base http://127.0.0.1:8080 \
+//!     --token gwk_... --team <TEAM_ID> --requests 4000 --concurrency 8 --duration-secs 20
+//! ```
+//!
+//! It runs three phases against one team, each bounded by `--requests` and
+//! `--duration-secs` (whichever comes first), after a short warm-up:
+//!
+//! 1. **mix**: 90 % plan reads (alternately `GET …/plan/summary` and
+//!    `GET …/plan`) and 10 % session writes (`PATCH /v1/sessions/{id}`
+//!    moving the start time or changing the notes of a few sessions it
+//!    created first in the planned week);
+//! 2. **squad plan**: `GET /v1/teams/{team}/plan` alone;
+//! 3. **ceiling**: `GET /v1/ceiling?bytes=N`, a pre-built response of the
+//!    squad plan's size behind the same authentication and middleware (the
+//!    service must run with `--ceiling-endpoint`): what the HTTP stack
+//!    allows on this machine.
+//!
+//! For each it reports throughput, p50/p90/p99 latency, errors (transport
+//! failures and unexpected statuses) and 5xx, then the squad-plan
+//! throughput as a ratio of the ceiling's, as a Markdown table on stdout.
+//! The exit status is 1 when any request failed, so scripts can gate on it.
+
+use std::sync::Arc;
+use std::sync::atomic::{AtomicUsize, Ordering};
+use std::time::{Duration, Instant};
+
+use clap::Parser;
+use reqwest::{Client, Method};
+use serde_json::{Value, json};
+
+#[derive(Parser, Debug)]
+#[command(about = "Drive a glycoweek service with plan reads and session writes")]
+struct Args {
+    /// Base URL of the service, e.g. http://127.0.0.1:8080.
+    #[arg(long)]
+    base: String,
+    /// A planner or admin token of the team.
+    #[arg(long)]
+    token: String,
+    /// Team whose plan is read and whose sessions are written.
+    #[arg(long)]
+    team: String,
+    /// Most requests per phase.
+    #[arg(long, default_value_t = 2000)]
+    requests: usize,
+    /// Requests in flight at once.
+    #[arg(long, default_value_t = 8)]
+    concurrency: usize,
+    /// Longest a phase may run, in seconds.
+    #[arg(long, default_value_t = 20)]
+    duration_secs: u64,
+    /// Sessions created for the writes to change.
+    #[arg(long, default_value_t = 4)]
+    write_sessions: usize,
+}
+
+/// What one request does.
+#[derive(Clone, Copy, PartialEq, Eq, Debug)]
+enum Kind {
+    Summary,
+    Plan,
+    Write,
+    Ceiling,
+}
+
+/// The outcome of one request.
+struct Sample {
+    kind: Kind,
+    latency: Duration,
+    status: Option<u16>,
+}
+
+/// Figures of a set of samples over a wall-clock span.
+struct Figures {
+    name: String,
+    requests: usize,
+    throughput: f64,
+    p50_ms: f64,
+    p90_ms: f64,
+    p99_ms: f64,
+    errors: usize,
+    server_errors: usize,
+}
+
+impl Figures {
+    fn of(name: &str, samples: &[&Sample], wall: Duration, expected: u16) -> Figures {
+        let mut micros: Vec<u128> = samples.iter().map(|s| s.latency.as_micros()).collect();
+        micros.sort_unstable();
+        // Nearest-rank percentile.
+        let pct = |p: f64| -> f64 {
+            if micros.is_empty() {
+                return f64::NAN;
+            }
+            let rank = ((p / 100.0) * micros.len() as f64).ceil() as usize;
+            micros[rank.clamp(1, micros.len()) - 1] as f64 / 1000.0
+        };
+        Figures {
+            name: name.to_owned(),
+            requests: samples.len(),
+            throughput: samples.len() as f64 / wall.as_secs_f64(),
+            p50_ms: pct(50.0),
+            p90_ms: pct(90.0),
+            p99_ms: pct(99.0),
+            errors: samples
+                .iter()
+                .filter(|s| s.status != Some(expected))
+                .count(),
+            server_errors: samples
+                .iter()
+                .filter(|s| s.status.is_some_and(|c| c >= 500))
+                .count(),
+        }
+    }
+
+    fn row(&self) -> String {
+        format!(
+            "| {} | {} | {:.0} | {:.1} | {:.1} | {:.1} | {} | {} |",
+            self.name,
+            self.requests,
+            self.throughput,
+            self.p50_ms,
+            self.p90_ms,
+            self.p99_ms,
+            self.errors,
+            self.server_errors
+        )
+    }
+}
+
+struct Target {
+    client: Client,
+    base: String,
+    token: String,
+    team: String,
+    /// Sessions the writes change, each with the range of start times
+    /// (minutes after midnight) it may move within without overlapping
+    /// another session of its day.
+    sessions: Vec<(String, u32, u32)>,
+    ceiling_bytes: usize,
+}
+
+impl Target {
+    /// Sends one request of `kind` (the `n`th of its phase) and reads the
+    /// whole body, so the latency covers the full response.
+    async fn send(&self, kind: Kind, n: usize) -> Sample {
+        let (method, url, body) = match kind {
+            Kind::Summary => (
+                Method::GET,
+                format!("{}/v1/teams/{}/plan/summary", self.base, self.team),
+                None,
+            ),
+            Kind::Plan => (
+                Method::GET,
+                format!("{}/v1/teams/{}/plan", self.base, self.team),
+                None,
+            ),
+            Kind::Write => {
+                let (id, earliest, latest) = &self.sessions[(n / 10) % self.sessions.len()];
+                // Alternately move the session inside its free slot and
+                // rewrite its notes.
+                let patch = if (n / 10).is_multiple_of(2) {
+                    let start = earliest + (n as u32 * 5) % (latest - earliest + 1);
+                    json!({"start_time": format!("{:02}:{:02}", start / 60, start % 60)})
+                } else {
+                    json!({"notes": format!("load test note {n}")})
+                };
+                (
+                    Method::PATCH,
+                    format!("{}/v1/sessions/{id}", self.base),
+                    Some(patch),
+                )
+            }
+            Kind::Ceiling => (
+                Method::GET,
+                format!("{}/v1/ceiling?bytes={}", self.base, self.ceiling_bytes),
+                None,
+            ),
+        };
+        let mut request = self.client.request(method, url).bearer_auth(&self.token);
+        if let Some(patch) = body {
+            request = request
+                .header("content-type", "application/merge-patch+json")
+                .body(patch.to_string());
+        }
+        let started = Instant::now();
+        let status = match request.send().await {
+            Ok(res) => {
+                let code = res.status().as_u16();
+                res.bytes().await.ok().map(|_| code)
+            }
+            Err(_) => None,
+        };
+        Sample {
+            kind,
+            latency: started.elapsed(),
+            status,
+        }
+    }
+}
+
+/// Runs `requests` requests (or until `limit` passes) with `concurrency`
+/// in flight; `pick` chooses the kind of the `n`th request.
+async fn phase(
+    target: &Arc<Target>,
+    requests: usize,
+    concurrency: usize,
+    limit: Duration,
+    pick: fn(usize) -> Kind,
+) -> (Vec<Sample>, Duration) {
+    let next = Arc::new(AtomicUsize::new(0));
+    let started = Instant::now();
+    let deadline = started + limit;
+    let mut workers = Vec::new();
+    for _ in 0..concurrency {
+        let (target, next) = (target.clone(), next.clone());
+        workers.push(tokio::spawn(async move {
+            let mut samples = Vec::new();
+            loop {
+                let n = next.fetch_add(1, Ordering::Relaxed);
+                if n >= requests || Instant::now() >= deadline {
+                    return samples;
+                }
+                samples.push(target.send(pick(n), n).await);
+            }
+        }));
+    }
+    let mut samples = Vec::with_capacity(requests);
+    for worker in workers {
+        samples.extend(worker.await.expect("worker"));
+    }
+    (samples, started.elapsed())
+}
+
+/// The samples of the given kinds.
+fn of<'a>(samples: &'a [Sample], kinds: &[Kind]) -> Vec<&'a Sample> {
+    samples.iter().filter(|s| kinds.contains(&s.kind)).collect()
+}
+
+fn mix(n: usize) -> Kind {
+    match n % 10 {
+        9 => Kind::Write,
+        k if k % 2 == 0 => Kind::Summary,
+        _ => Kind::Plan,
+    }
+}
+
+/// Minutes of a write session; it moves by up to an hour inside its slot.
+const WRITE_MINUTES: u32 = 30;
+const SLOT_MINUTES: u32 = WRITE_MINUTES + 60;
+/// Slots are looked for between 06:00 and 22:00, with 15 minutes' margin.
+const DAY_OPENS: u32 = 6 * 60;
+const DAY_CLOSES: u32 = 22 * 60;
+const MARGIN: u32 = 15;
+
+fn minutes_of(hh_mm: &str) -> Option<u32> {
+    let (h, m) = hh_mm.split_once(':')?;
+    Some(h.parse::<u32>().ok()? * 60 + m.parse::<u32>().ok()?)
+}
+
+/// Free slots of the planned week: (date, earliest start, latest start) in
+/// which a write session can move without overlapping another session (an
+/// overlap would make the plan refuse every athlete and shrink the
+/// response, which would flatter the figures).
+async fn free_slots(
+    args: &Args,
+    client: &Client,
+    from: &str,
+    to: &str,
+) -> Result<Vec<(String, u32, u32)>, String> {
+    let url = format!(
+        "{}/v1/teams/{}/sessions?from={from}&to={to}&limit=200",
+        args.base, args.team
+    );
+    let res = client
+        .get(url)
+        .bearer_auth(&args.token)
+        .send()
+        .await
+        .map_err(|e| format!("GET sessions: {e}"))?;
+    let page: Value = res.json().await.map_err(|e| e.to_string())?;
+    let mut busy: std::collections::BTreeMap<String, Vec<(u32, u32)>> = Default::default();
+    let mut day = chrono::NaiveDate::parse_from_str(from, "%Y-%m-%d").map_err(|e| e.to_string())?;
+    let last = chrono::NaiveDate::parse_from_str(to, "%Y-%m-%d").map_err(|e| e.to_string())?;
+    while day <= last {
+        busy.insert(day.to_string(), Vec::new());
+        day += chrono::Duration::days(1);
+    }
+    for session in page["items"].as_array().into_iter().flatten() {
+        let (Some(date), Some(start)) = (
+            session["local_date"].as_str(),
+            session["start_time"].as_str().and_then(minutes_of),
+        ) else {
+            continue;
+        };
+        let minutes: u32 = session["segments"]
+            .as_array()
+            .into_iter()
+            .flatten()
+            .filter_map(|s| s["minutes"].as_u64())
+            .map(|m| m as u32)
+            .sum();
+        busy.entry(date.to_owned())
+            .or_default()
+            .push((start, start + minutes));
+    }
+    let mut slots = Vec::new();
+    for (date, mut taken) in busy {
+        taken.sort_unstable();
+        let mut free_from = DAY_OPENS;
+        for (start, end) in taken.into_iter().chain([(DAY_CLOSES, DAY_CLOSES)]) {
+            let (lo, hi) = (free_from + MARGIN, start.saturating_sub(MARGIN));
+            if hi >= lo + SLOT_MINUTES {
+                // Latest start that still ends inside the slot.
+                slots.push((date.clone(), lo, lo + SLOT_MINUTES - WRITE_MINUTES));
+                break; // one per day keeps the week realistic
+            }
+            free_from = free_from.max(end);
+        }
+    }
+    Ok(slots)
+}
+
+/// Whether every athlete of a squad plan got a plan.
+fn all_planned(plan: &Value) -> bool {
+    plan["athletes"]
+        .as_array()
+        .is_some_and(|a| a.iter().all(|athlete| !athlete["plan"].is_null()))
+}
+
+async fn fetch_plan(args: &Args, client: &Client) -> Result<(Value, usize), String> {
+    let res = client
+        .get(format!("{}/v1/teams/{}/plan", args.base, args.team))
+        .bearer_auth(&args.token)
+        .send()
+        .await
+        .map_err(|e| format!("GET plan: {e}"))?;
+    if res.status() != 200 {
+        return Err(format!("GET plan answered {}", res.status()));
+    }
+    let bytes = res.bytes().await.map_err(|e| e.to_string())?;
+    let plan: Value = serde_json::from_slice(&bytes).map_err(|e| e.to_string())?;
+    Ok((plan, bytes.len()))
+}
+
+type Setup = (Vec<(String, u32, u32)>, usize, String);
+
+async fn setup(args: &Args, client: &Client) -> Result<Setup, String> {
+    let (plan, plan_bytes) = fetch_plan(args, client).await?;
+    if !all_planned(&plan) {
+        return Err("some athletes have no plan before the run; fix the data first".into());
+    }
+    let from = plan["from"].as_str().ok_or("the plan has no from date")?;
+    let to = plan["to"].as_str().ok_or("the plan has no to date")?;
+    let athletes = plan["athletes"].as_array().map_or(0, Vec::len);
+    let slots = free_slots(args, client, from, to).await?;
+    if slots.is_empty() {
+        return Err("no free slot in the planned week for the write sessions".into());
+    }
+    let mut sessions = Vec::new();
+    for (i, (date, earliest, latest)) in slots.into_iter().take(args.write_sessions).enumerate() {
+        let body = json!({
+            "local_date": date,
+            "start_time": format!("{:02}:{:02}", earliest / 60, earliest % 60),
+            "kind": "strength",
+            "title": format!("Load test gym block {}", i + 1),
+            "segments": [{"minutes": WRITE_MINUTES, "intensity": {"form": "session_rpe", "rating": 4}}]
+        });
+        let res = client
+            .post(format!("{}/v1/teams/{}/sessions", args.base, args.team))
+            .bearer_auth(&args.token)
+            .json(&body)
+            .send()
+            .await
+            .map_err(|e| format!("POST session: {e}"))?;
+        if res.status() != 201 {
+            return Err(format!(
+                "creating a session answered {}: {}",
+                res.status(),
+                res.text().await.unwrap_or_default()
+            ));
+        }
+        let made: Value = res.json().await.map_err(|e| e.to_string())?;
+        let id = made["id"].as_str().ok_or("no session id")?.to_owned();
+        sessions.push((id, earliest, latest));
+    }
+    let note = format!(
+        "squad plan: {athletes} athletes, {from} to {to}, {plan_bytes} bytes; {} write sessions",
+        sessions.len()
+    );
+    Ok((sessions, plan_bytes, note))
+}
+
+#[tokio::main]
+async fn main() -> std::process::ExitCode {
+    let args = Args::parse();
+    if args.requests == 0 || args.concurrency == 0 || args.duration_secs == 0 {
+        eprintln!("loadgen: requests, concurrency and duration must be positive");
+        return std::process::ExitCode::FAILURE;
+    }
+    let client = Client::builder()
+        .timeout(Duration::from_secs(30))
+        .pool_max_idle_per_host(args.concurrency)
+        .build()
+        .expect("client");
+    let (sessions, plan_bytes, note) = match setup(&args, &client).await {
+        Ok(s) => s,
+        Err(e) => {
+            eprintln!("loadgen: setup failed: {e}");
+            return std::process::ExitCode::FAILURE;
+        }
+    };
+    eprintln!("loadgen: {note}");
+    let target = Arc::new(Target {
+        client,
+        base: args.base.trim_end_matches('/').to_owned(),
+        token: args.token.clone(),
+        team: args.team.clone(),
+        sessions,
+        ceiling_bytes: plan_bytes,
+    });
+    let limit = Duration::from_secs(args.duration_secs);
+    let warm_up = 2 * args.concurrency;
+
+    eprintln!("loadgen: mix (90 % plan reads, 10 % session writes)");
+    phase(&target, warm_up, args.concurrency, limit, mix).await;
+    let (mixed, mixed_wall) = phase(&target, args.requests, args.concurrency, limit, mix).await;
+    // The writes must not have broken the plan (a refused plan is small and
+    // fast, and would flatter every figure after this point).
+    match fetch_plan(&args, &target.client).await {
+        Ok((plan, _)) if all_planned(&plan) => {}
+        Ok(_) => {
+            eprintln!("loadgen: after the writes, some athletes have no plan");
+            return std::process::ExitCode::FAILURE;
+        }
+        Err(e) => {
+            eprintln!("loadgen: {e}");
+            return std::process::ExitCode::FAILURE;
+        }
+    }
+    eprintln!("loadgen: squad plan alone");
+    phase(&target, warm_up, args.concurrency, limit, |_| Kind::Plan).await;
+    let (plans, plans_wall) = phase(&target, args.requests, args.concurrency, limit, |_| {
+        Kind::Plan
+    })
+    .await;
+    eprintln!("loadgen: ceiling ({plan_bytes} bytes)");
+    phase(&target, warm_up, args.concurrency, limit, |_| Kind::Ceiling).await;
+    let (ceiling, ceiling_wall) = phase(&target, args.requests, args.concurrency, limit, |_| {
+        Kind::Ceiling
+    })
+    .await;
+
+    let all = of(&mixed, &[Kind::Summary, Kind::Plan, Kind::Write]);
+    let figures = [
+        Figures::of("mix: all", &all, mixed_wall, 200),
+        Figures::of(
+            "mix: plan reads",
+            &of(&mixed, &[Kind::Summary, Kind::Plan]),
+            mixed_wall,
+            200,
+        ),
+        Figures::of(
+            "mix: session writes",
+            &of(&mixed, &[Kind::Write]),
+            mixed_wall,
+            200,
+        ),
+        Figures::of(
+            "squad plan alone",
+            &of(&plans, &[Kind::Plan]),
+            plans_wall,
+            200,
+        ),
+        Figures::of(
+            "ceiling (same size)",
+            &of(&ceiling, &[Kind::Ceiling]),
+            ceiling_wall,
+            200,
+        ),
+    ];
+    let ratio = figures[3].throughput / figures[4].throughput;
+
+    println!(
+        "{note}; concurrency {}; at most {} requests or {} s per phase",
+        args.concurrency, args.requests, args.duration_secs
+    );
+    println!();
+    println!("| phase | requests | req/s | p50 ms | p90 ms | p99 ms | errors | 5xx |");
+    println!("|---|---:|---:|---:|---:|---:|---:|---:|");
+    for f in &figures {
+        println!("{}", f.row());
+    }
+    println!();
+    println!(
+        "Squad-plan throughput / ceiling throughput: {ratio:.3} ({:.0} / {:.0} req/s)",
+        figures[3].throughput, figures[4].throughput
+    );
+    let failed: usize = [&figures[0], &figures[3], &figures[4]]
+        .iter()
+        .map(|f| f.errors)
+        .sum();
+    if failed > 0 {
+        eprintln!("loadgen: {failed} requests failed");
+        return std::process::ExitCode::FAILURE;
+    }
+    std::process::ExitCode::SUCCESS
+}
