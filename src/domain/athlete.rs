@@ -22,6 +22,7 @@ pub enum AthleteStatus {
 #[serde(deny_unknown_fields)]
 pub struct InitialBodyMass {
     #[schema(example = 74.5)]
+    #[schema(minimum = 25.0, maximum = 250.0)]
     pub body_mass_kg: f64,
     /// Defaults to today in the team's time zone.
     #[serde(default)]
@@ -32,34 +33,43 @@ pub struct InitialBodyMass {
 #[derive(Debug, Clone, Serialize, Deserialize, ToSchema)]
 #[serde(deny_unknown_fields)]
 pub struct AthleteInput {
-    #[schema(example = "Rui Tavora")]
+    #[schema(example = "Oren Oakhurst")]
+    #[schema(min_length = 1, max_length = 100)]
     pub display_name: String,
     pub sex: Sex,
     #[schema(example = "2001-04-17")]
     pub date_of_birth: NaiveDate,
     #[schema(example = 178.0)]
+    #[schema(minimum = 120.0, maximum = 230.0)]
     pub height_cm: f64,
     #[serde(default)]
+    #[schema(minimum = 3.0, maximum = 60.0)]
     pub body_fat_percent: Option<f64>,
     #[serde(default)]
+    #[schema(minimum = 20.0, maximum = 150.0)]
     pub fat_free_mass_kg: Option<f64>,
     /// How VO2max is known: a laboratory value or a field test.
     #[serde(default)]
     pub vo2max: Option<Vo2maxSource>,
     #[serde(default)]
+    #[schema(minimum = 100.0, maximum = 230.0)]
     pub hr_max: Option<f64>,
     #[serde(default)]
+    #[schema(minimum = 30.0, maximum = 120.0)]
     pub hr_rest: Option<f64>,
     pub training_status: TrainingStatus,
     /// Position or event group, e.g. "midfield".
     #[serde(default)]
+    #[schema(min_length = 1, max_length = 60)]
     pub position_group: Option<String>,
     #[serde(default = "maintain")]
     pub goal: GoalDirection,
     /// Planned body-mass change in kg per week (0 to 2), for reduce or gain.
     #[serde(default)]
+    #[schema(minimum = 0.0, maximum = 2.0)]
     pub goal_rate_kg_per_week: Option<f64>,
     #[serde(default)]
+    #[schema(max_length = 2000)]
     pub dietary_notes: Option<String>,
     /// Conditions the adult-athlete targets do not cover; each adds a
     /// caution deferring to a registered dietitian or physician.
@@ -102,7 +112,7 @@ impl AthleteInput {
             issues.range("hr_max", v, 100.0, 230.0, "beats/min");
         }
         if let Some(v) = self.hr_rest {
-            issues.range("hr_rest", v, 25.0, 120.0, "beats/min");
+            issues.range("hr_rest", v, 30.0, 120.0, "beats/min");
         }
         if let (Some(max), Some(rest)) = (self.hr_max, self.hr_rest)
             && rest >= max
@@ -288,8 +298,10 @@ pub struct BodyMassInput {
     #[schema(example = "2026-11-30")]
     pub measured_on: NaiveDate,
     #[schema(example = 74.2)]
+    #[schema(minimum = 25.0, maximum = 250.0)]
     pub body_mass_kg: f64,
     #[serde(default)]
+    #[schema(max_length = 500)]
     pub note: Option<String>,
 }
 

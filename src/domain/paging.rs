@@ -15,6 +15,7 @@ pub const MAX_LIMIT: u32 = 200;
 #[into_params(parameter_in = Query)]
 pub struct PageParams {
     /// Items per page, 1 to 200 (default 50).
+    #[param(minimum = 1, maximum = 200)]
     pub limit: Option<u32>,
     /// The `next_cursor` of the previous page.
     pub cursor: Option<String>,

@@ -24,6 +24,7 @@ pub struct SessionInput {
     pub start_time: NaiveTime,
     pub kind: SessionKind,
     #[schema(example = "Pitch: possession and transition")]
+    #[schema(min_length = 1, max_length = 160)]
     pub title: String,
     /// A session the week is built around (a match, a decisive practice).
     #[serde(default)]
@@ -35,8 +36,10 @@ pub struct SessionInput {
     #[serde(default)]
     pub carbohydrate_loading: bool,
     #[serde(default)]
+    #[schema(max_length = 2000)]
     pub notes: Option<String>,
     /// The session's content, in order: minutes at an intensity each.
+    #[schema(min_items = 1, max_items = 40)]
     pub segments: Vec<Segment>,
 }
 
@@ -246,6 +249,7 @@ pub struct ParticipationInput {
     pub mode: ParticipationMode,
     /// Minutes taken part, for `shortened`.
     #[serde(default)]
+    #[schema(exclusive_minimum = 0.0, maximum = 720.0)]
     pub minutes: Option<f64>,
     /// Which part of the session, for `shortened` (default `until_end`).
     #[serde(default)]
@@ -254,6 +258,7 @@ pub struct ParticipationInput {
     #[serde(default)]
     pub segments: Option<Vec<Segment>>,
     #[serde(default)]
+    #[schema(max_length = 500)]
     pub note: Option<String>,
 }
 

@@ -10,7 +10,8 @@ use crate::engine::{InvalidInput, Issues};
 #[derive(Debug, Clone, Serialize, Deserialize, ToSchema)]
 #[serde(deny_unknown_fields)]
 pub struct TeamInput {
-    #[schema(example = "Harbourside AFC senior squad")]
+    #[schema(example = "Kestrel Vale FC senior squad")]
+    #[schema(min_length = 1, max_length = 120)]
     pub name: String,
     /// IANA time zone name.
     #[schema(example = "Europe/Lisbon")]

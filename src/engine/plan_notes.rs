@@ -25,6 +25,7 @@ pub enum Severity {
 /// codes keep their meaning.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, ToSchema)]
 #[serde(rename_all = "snake_case")]
+#[schema(as = PlanWarningCode)]
 pub enum WarningCode {
     /// The athlete is under 18: adult targets do not simply apply.
     UnderEighteen,

@@ -57,31 +57,53 @@ pub enum SessionKind {
 #[serde(tag = "form", rename_all = "snake_case", deny_unknown_fields)]
 pub enum Intensity {
     /// Fraction of the athlete's VO2max, 0.2 to 1.2 (e.g. 0.65).
-    FractionVo2max { fraction: f64 },
+    FractionVo2max {
+        #[schema(minimum = 0.2, maximum = 1.2)]
+        fraction: f64,
+    },
     /// Average heart rate over the segment, beats per minute.
-    HeartRate { bpm: f64 },
+    HeartRate {
+        #[schema(minimum = 30.0, maximum = 240.0)]
+        bpm: f64,
+    },
     /// Fraction of heart-rate reserve, 0 to 1.
-    HeartRateReserve { fraction: f64 },
+    HeartRateReserve {
+        #[schema(minimum = 0.0, maximum = 1.0)]
+        fraction: f64,
+    },
     /// Session RPE on the CR10 scale (0 to 10).
-    SessionRpe { rating: f64 },
+    SessionRpe {
+        #[schema(minimum = 0.0, maximum = 10.0)]
+        rating: f64,
+    },
     /// Metabolic equivalents (1 MET = 3.5 mL O2/kg/min).
-    Mets { mets: f64 },
+    Mets {
+        #[schema(minimum = 1.0, maximum = 23.0)]
+        mets: f64,
+    },
     /// An activity from the catalogue (`GET /v1/activities`), by its key.
     Activity { activity: String },
     /// Running at a speed in km/h on a grade in percent.
     Running {
+        #[schema(minimum = 4.0, maximum = 30.0)]
         speed_kmh: f64,
         #[serde(default)]
+        #[schema(minimum = 0.0, maximum = 30.0)]
         grade_percent: f64,
     },
     /// Walking at a speed in km/h on a grade in percent.
     Walking {
+        #[schema(minimum = 1.0, maximum = 10.0)]
         speed_kmh: f64,
         #[serde(default)]
+        #[schema(minimum = 0.0, maximum = 30.0)]
         grade_percent: f64,
     },
     /// Leg cycling at an average power in watts.
-    Cycling { watts: f64 },
+    Cycling {
+        #[schema(minimum = 10.0, maximum = 1000.0)]
+        watts: f64,
+    },
 }
 
 /// One block of a session: minutes at an intensity.
@@ -90,8 +112,10 @@ pub enum Intensity {
 pub struct Segment {
     /// Optional label such as "warm-up" or "small-sided games".
     #[serde(default)]
+    #[schema(max_length = 80)]
     pub label: Option<String>,
     /// Duration of the block in minutes (over 0, at most 600).
+    #[schema(minimum = 0.5, maximum = 600.0)]
     pub minutes: f64,
     pub intensity: Intensity,
 }
@@ -112,29 +136,37 @@ pub enum GoalDirection {
 pub struct AthleteProfile {
     pub sex: Sex,
     /// Age in whole or fractional years on the planned date.
+    #[schema(minimum = 10.0, maximum = 100.0)]
     pub age_years: f64,
+    #[schema(minimum = 120.0, maximum = 230.0)]
     pub height_cm: f64,
     /// Latest body mass on or before the planned date, kg.
+    #[schema(minimum = 25.0, maximum = 250.0)]
     pub body_mass_kg: f64,
     /// Body fat as a percentage of body mass, if measured.
     #[serde(default)]
+    #[schema(minimum = 3.0, maximum = 60.0)]
     pub body_fat_percent: Option<f64>,
     /// Fat-free mass in kg, if measured (wins over body fat %).
     #[serde(default)]
+    #[schema(minimum = 20.0, maximum = 150.0)]
     pub fat_free_mass_kg: Option<f64>,
     #[serde(default)]
     pub vo2max: Option<Vo2maxSource>,
     /// Maximal heart rate, beats per minute, if measured.
     #[serde(default)]
+    #[schema(minimum = 100.0, maximum = 240.0)]
     pub hr_max: Option<f64>,
     /// Resting heart rate, beats per minute.
     #[serde(default)]
+    #[schema(minimum = 30.0, maximum = 120.0)]
     pub hr_rest: Option<f64>,
     pub training_status: TrainingStatus,
     #[serde(default = "default_goal")]
     pub goal: GoalDirection,
     /// Planned rate of body-mass change, kg per week (positive number).
     #[serde(default)]
+    #[schema(minimum = 0.0, maximum = 2.0)]
     pub goal_rate_kg_per_week: Option<f64>,
 }
 

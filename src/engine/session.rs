@@ -54,6 +54,7 @@ pub const RESTING_KCAL_PER_KG_HOUR: f64 = 1.0;
 /// Stable codes of plausibility warnings.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, ToSchema)]
 #[serde(rename_all = "snake_case")]
+#[schema(as = SessionWarningCode)]
 pub enum WarningCode {
     /// A continuous block at or above 80% VO2max for 40 minutes or more.
     SustainedHighIntensity,

@@ -10,7 +10,7 @@ use utoipa_axum::{router::OpenApiRouter, routes};
 use uuid::Uuid;
 
 use super::auth::Caller;
-use super::extract::{IfMatch, JsonBody, PathIds, QueryParams};
+use super::extract::{IfMatch, JsonBody, MergePatch, PathIds, QueryParams};
 use super::{apply_merge_patch, deleted, json, team_today, versioned, written};
 use crate::AppState;
 use crate::domain::athlete::{Athlete, AthleteInput, AthleteStatus, BodyMass, BodyMassInput};
@@ -42,7 +42,9 @@ pub enum StatusQuery {
 #[into_params(parameter_in = Query)]
 pub struct AthleteListParams {
     /// `active` (default), `archived` or `all`.
+    #[param(inline)]
     status: Option<StatusQuery>,
+    #[param(minimum = 1, maximum = 200)]
     limit: Option<u32>,
     cursor: Option<String>,
 }
@@ -90,7 +92,7 @@ async fn list_athletes(
 #[utoipa::path(post, path = "/v1/teams/{team_id}/athletes", tag = "athletes",
     params(("team_id" = Uuid, Path)),
     request_body(content = AthleteInput, example = json!({
-        "display_name": "Rui Tavora", "sex": "male", "date_of_birth": "2001-04-17", "height_cm": 178,
+        "display_name": "Oren Oakhurst", "sex": "male", "date_of_birth": "2001-04-17", "height_cm": 178,
         "training_status": "highly_trained", "position_group": "midfield",
         "vo2max": {"method": "yo_yo_ir1", "distance_m": 2280}, "hr_max": 196, "hr_rest": 48,
         "body_fat_percent": 10.5, "initial_body_mass": {"body_mass_kg": 74.5, "measured_on": "2026-11-30"}
@@ -139,7 +141,7 @@ async fn update_athlete(
     caller: Caller,
     PathIds(id): PathIds<Uuid>,
     IfMatch(expected): IfMatch,
-    JsonBody(patch): JsonBody<serde_json::Value>,
+    MergePatch(patch): MergePatch,
 ) -> Result<Response> {
     let current = visible_athlete(&state, &caller, id).await?;
     caller.write(current.team_id, "athlete")?;
@@ -189,6 +191,7 @@ pub struct BodyMassListParams {
     from: Option<NaiveDate>,
     /// Last date, inclusive.
     to: Option<NaiveDate>,
+    #[param(minimum = 1, maximum = 200)]
     limit: Option<u32>,
     cursor: Option<String>,
 }

@@ -156,12 +156,41 @@ impl<S: Send + Sync> FromRequestParts<S> for IfMatch {
         if values.is_empty() || values.iter().any(|v| v.trim() == "*") {
             return Ok(IfMatch(Precondition::None));
         }
-        let versions = values
-            .iter()
-            .flat_map(|v| v.split(','))
-            .filter_map(|tag| parse_etag(tag.trim()))
-            .collect();
+        let mut versions = Vec::new();
+        for tag in values.iter().flat_map(|v| v.split(',')).map(str::trim) {
+            if !is_entity_tag(tag) {
+                return Err(ApiError::BadRequest(
+                    "If-Match must be * or a list of entity tags such as \"v3\".".into(),
+                ));
+            }
+            // A weak or foreign tag is valid syntax that can never match (412).
+            versions.extend(parse_etag(tag));
+        }
         Ok(IfMatch(Precondition::OneOf(versions)))
+    }
+}
+
+/// `"opaque"` or `W/"opaque"` (RFC 9110 section 8.8.3).
+fn is_entity_tag(tag: &str) -> bool {
+    let quoted = tag.strip_prefix("W/").unwrap_or(tag);
+    quoted.len() >= 2
+        && quoted.starts_with('"')
+        && quoted.ends_with('"')
+        && !quoted[1..quoted.len() - 1].contains('"')
+}
+
+/// A JSON merge patch (RFC 7396): must be a JSON object.
+pub struct MergePatch(pub serde_json::Value);
+
+impl<S: Send + Sync> FromRequest<S> for MergePatch {
+    type Rejection = ApiError;
+
+    async fn from_request(req: Request, state: &S) -> Result<Self, Self::Rejection> {
+        let JsonBody(value) = JsonBody::<serde_json::Value>::from_request(req, state).await?;
+        if !value.is_object() {
+            return Err(ApiError::field("", "a merge patch must be a JSON object"));
+        }
+        Ok(MergePatch(value))
     }
 }
 

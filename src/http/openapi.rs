@@ -1,6 +1,7 @@
 //! The OpenAPI 3.1 document: base information, the bearer scheme, and the
 //! problem+json responses every operation can give, added in one place.
 
+use serde_json::Value;
 use utoipa::openapi::path::Operation;
 use utoipa::openapi::security::{Http, HttpAuthScheme, SecurityScheme};
 use utoipa::openapi::{ContentBuilder, OpenApi as OpenApiDoc, Ref, ResponseBuilder};
@@ -94,6 +95,9 @@ impl Modify for Problems {
                     "503",
                     "Storage busy or unavailable; retry after `Retry-After` seconds",
                 );
+                if path.starts_with("/v1/calendar/") {
+                    add("422", "Invalid query parameters; `errors` names them");
+                }
                 if public {
                     continue;
                 }
@@ -120,8 +124,137 @@ impl Modify for Problems {
     }
 }
 
-/// Applies the shared responses to the final document.
+/// Applies the shared responses to the final document, then states in the
+/// schema what the Rust types cannot say by themselves.
 pub fn finish(mut doc: OpenApiDoc) -> OpenApiDoc {
     Problems.modify(&mut doc);
-    doc
+    let Ok(mut value) = serde_json::to_value(&doc) else {
+        return doc;
+    };
+    refine(&mut value);
+    serde_json::from_value(value).unwrap_or(doc)
+}
+
+const LOCAL_TIME: &str = "^([01][0-9]|2[0-3]):[0-5][0-9](:[0-5][0-9])?$";
+const LOCAL_DATE_TIME: &str =
+    "^[0-9]{4}-[0-9]{2}-[0-9]{2}T([01][0-9]|2[0-3]):[0-5][0-9](:[0-5][0-9](\\.[0-9]+)?)?$";
+
+fn refine(doc: &mut Value) {
+    let schemas = &mut doc["components"]["schemas"];
+    // Time zones are IANA names: list the ones this build knows.
+    let zones: Vec<Value> = chrono_tz::TZ_VARIANTS
+        .iter()
+        .map(|tz| Value::from(tz.name()))
+        .collect();
+    schemas["TeamInput"]["properties"]["time_zone"]["enum"] = Value::Array(zones);
+    // Local wall-clock times and local date-times carry no offset.
+    schemas["SessionInput"]["properties"]["start_time"]["pattern"] = LOCAL_TIME.into();
+    if let Some(props) = schemas["MealTimes"]["properties"].as_object_mut() {
+        for p in props.values_mut() {
+            p["pattern"] = LOCAL_TIME.into();
+        }
+    }
+    let start = &mut schemas["SessionWork"]["properties"]["start"];
+    if let Some(obj) = start.as_object_mut() {
+        obj.remove("format");
+        obj.insert("pattern".into(), LOCAL_DATE_TIME.into());
+    }
+    // Creating an athlete needs a first body-mass reading; patching must not carry one.
+    let mut create = schemas["AthleteInput"].clone();
+    if let Some(required) = create["required"].as_array_mut() {
+        required.push("initial_body_mass".into());
+    }
+    if let Some(props) = create["properties"].as_object_mut() {
+        if let Some(first) = props.get_mut("initial_body_mass") {
+            *first = serde_json::json!({"$ref": "#/components/schemas/InitialBodyMass"});
+        }
+    }
+    schemas["AthleteCreate"] = create;
+    for (input, patch) in [
+        ("TeamInput", "TeamPatch"),
+        ("AthleteInput", "AthletePatch"),
+        ("SessionInput", "SessionPatch"),
+    ] {
+        let patch_schema = merge_patch_schema(&schemas[input]);
+        schemas[patch] = patch_schema;
+    }
+    let paths = &mut doc["paths"];
+    set_body_schema(
+        &mut paths["/v1/teams/{team_id}/athletes"]["post"],
+        "application/json",
+        "AthleteCreate",
+    );
+    set_body_schema(
+        &mut paths["/v1/teams/{team_id}"]["patch"],
+        "application/merge-patch+json",
+        "TeamPatch",
+    );
+    set_body_schema(
+        &mut paths["/v1/athletes/{athlete_id}"]["patch"],
+        "application/merge-patch+json",
+        "AthletePatch",
+    );
+    set_body_schema(
+        &mut paths["/v1/sessions/{session_id}"]["patch"],
+        "application/merge-patch+json",
+        "SessionPatch",
+    );
+}
+
+/// A merge patch of an input: any subset of its fields; `null` removes an
+/// optional field (a required one cannot be removed).
+fn merge_patch_schema(input: &Value) -> Value {
+    let mut patch = input.clone();
+    let required: Vec<String> = patch["required"]
+        .as_array()
+        .map(|r| {
+            r.iter()
+                .filter_map(|v| v.as_str().map(str::to_owned))
+                .collect()
+        })
+        .unwrap_or_default();
+    if let Some(obj) = patch.as_object_mut() {
+        obj.remove("required");
+        obj.insert(
+            "description".into(),
+            "JSON merge patch (RFC 7396): the fields to change; `null` clears an optional field."
+                .into(),
+        );
+        if let Some(props) = obj.get_mut("properties").and_then(Value::as_object_mut) {
+            props.remove("initial_body_mass");
+            for (name, p) in props.iter_mut() {
+                // A required field can be changed but not removed; `null`
+                // resets any other field to its default.
+                if !required.contains(name) && !is_nullable(p) {
+                    *p = serde_json::json!({"anyOf": [p.clone(), {"type": "null"}]});
+                }
+            }
+        }
+        obj.insert("additionalProperties".into(), false.into());
+    }
+    patch
+}
+
+fn is_nullable(schema: &Value) -> bool {
+    let null = Value::from("null");
+    schema["type"] == null
+        || schema["type"].as_array().is_some_and(|t| t.contains(&null))
+        || ["oneOf", "anyOf"].iter().any(|k| {
+            schema[*k]
+                .as_array()
+                .is_some_and(|alts| alts.iter().any(|a| a["type"] == null))
+        })
+}
+
+fn set_body_schema(operation: &mut Value, content_type: &str, schema: &str) {
+    if let Some(content) = operation["requestBody"]["content"].as_object_mut() {
+        let example = content.values().find_map(|c| c.get("example").cloned());
+        content.clear();
+        let mut media =
+            serde_json::json!({"schema": {"$ref": format!("#/components/schemas/{schema}")}});
+        if let Some(example) = example {
+            media["example"] = example;
+        }
+        content.insert(content_type.into(), media);
+    }
 }

@@ -56,9 +56,11 @@ pub struct PlanParams {
     /// Last local date, inclusive (default: `from` + 6 days; at most 16 weeks).
     to: Option<NaiveDate>,
     /// An ISO week such as `2026-W50`, instead of `from`/`to`.
+    #[param(pattern = r"^\d{4}-W\d{2}$")]
     week: Option<String>,
     /// Muscle and liver glycogen at the start as a fraction of capacity
     /// (0.2 to 1.0); default: normal stores after a rest day.
+    #[param(minimum = 0.2, maximum = 1.0)]
     start_glycogen_fraction: Option<f64>,
     /// Include each session's minute-by-minute fuel result (larger response).
     include_session_fuel: Option<bool>,
@@ -587,9 +589,11 @@ async fn team_summary_csv(
 #[into_params(parameter_in = Query)]
 pub struct ChangesParams {
     /// The `version` of a summary you read before the change.
+    #[param(minimum = 0)]
     since_version: i64,
     from: Option<NaiveDate>,
     to: Option<NaiveDate>,
+    #[param(pattern = r"^\d{4}-W\d{2}$")]
     week: Option<String>,
 }
 
@@ -785,8 +789,10 @@ async fn athlete_plan(
 #[into_params(parameter_in = Query)]
 pub struct ChangesFeedParams {
     /// The last `seq` you processed (0 for everything).
+    #[param(minimum = 0)]
     since: Option<i64>,
     /// At most this many changes (1 to 200, default 100).
+    #[param(minimum = 1, maximum = 200)]
     limit: Option<u32>,
 }
 

@@ -12,7 +12,7 @@ use uuid::Uuid;
 
 use super::athletes::visible_athlete;
 use super::auth::Caller;
-use super::extract::{IfMatch, JsonBody, PathIds, QueryParams};
+use super::extract::{IfMatch, JsonBody, MergePatch, PathIds, QueryParams};
 use super::{apply_merge_patch, deleted, json, versioned, written};
 use crate::AppState;
 use crate::domain::paging::{Page, PageParams};
@@ -46,6 +46,7 @@ pub struct SessionListParams {
     to: Option<NaiveDate>,
     /// Only sessions of this kind.
     kind: Option<SessionKind>,
+    #[param(minimum = 1, maximum = 200)]
     limit: Option<u32>,
     cursor: Option<String>,
 }
@@ -192,7 +193,7 @@ async fn update_session(
     caller: Caller,
     PathIds(id): PathIds<Uuid>,
     IfMatch(expected): IfMatch,
-    JsonBody(patch): JsonBody<serde_json::Value>,
+    MergePatch(patch): MergePatch,
 ) -> Result<Response> {
     let current = visible_session(&state, &caller, id).await?;
     caller.write(current.team_id, "session")?;

@@ -92,10 +92,14 @@ async fn list_pins(
 ) -> Result<Response> {
     let athlete = visible_athlete(&state, &caller, id).await?;
     let team = super::visible_team(&state, &caller, athlete.team_id).await?;
-    let from = q
-        .from
-        .unwrap_or_else(|| team_today(&team) - chrono::Days::new(30));
-    let to = q.to.unwrap_or(from + chrono::Days::new(90));
+    let (from, to) = match (q.from, q.to) {
+        (Some(from), to) => (from, to.unwrap_or(from + chrono::Days::new(90))),
+        (None, Some(to)) => (to - chrono::Days::new(90), to),
+        (None, None) => {
+            let from = team_today(&team) - chrono::Days::new(30);
+            (from, from + chrono::Days::new(90))
+        }
+    };
     if to < from {
         return Err(ApiError::field("to", "must not be before from"));
     }
@@ -106,14 +110,35 @@ async fn list_pins(
 }
 
 /// Targets a dietitian fixes for one athlete and date; the plan keeps them
-/// and shows the computed value beside each.
+/// and shows the computed value beside each. Give at least one.
 #[derive(Debug, Deserialize, Serialize, ToSchema)]
 #[serde(deny_unknown_fields)]
 pub struct PinInput {
-    #[serde(flatten)]
-    pub pins: DayPins,
+    /// Daily carbohydrate, g/kg (0 to 20).
     #[serde(default)]
+    #[schema(minimum = 0.0, maximum = 20.0)]
+    pub carbohydrate_g_per_kg: Option<f64>,
+    /// Daily protein, g/kg (0.5 to 4).
+    #[serde(default)]
+    #[schema(minimum = 0.5, maximum = 4.0)]
+    pub protein_g_per_kg: Option<f64>,
+    /// Daily energy intake, kcal (500 to 10000).
+    #[serde(default)]
+    #[schema(minimum = 500.0, maximum = 10000.0)]
+    pub energy_kcal: Option<f64>,
+    #[serde(default)]
+    #[schema(max_length = 500)]
     pub note: Option<String>,
+}
+
+impl PinInput {
+    fn pins(&self) -> DayPins {
+        DayPins {
+            carbohydrate_g_per_kg: self.carbohydrate_g_per_kg,
+            protein_g_per_kg: self.protein_g_per_kg,
+            energy_kcal: self.energy_kcal,
+        }
+    }
 }
 
 /// One date's pins.
@@ -147,11 +172,11 @@ async fn put_pin(
     let athlete = visible_athlete(&state, &caller, id).await?;
     caller.write(athlete.team_id, "athlete")?;
     let mut issues = Issues::default();
-    input.pins.validate("", &mut issues);
+    input.pins().validate("", &mut issues);
     check_date(&mut issues, "date", date);
-    if input.pins.carbohydrate_g_per_kg.is_none()
-        && input.pins.protein_g_per_kg.is_none()
-        && input.pins.energy_kcal.is_none()
+    if input.carbohydrate_g_per_kg.is_none()
+        && input.protein_g_per_kg.is_none()
+        && input.energy_kcal.is_none()
     {
         issues.push(
             "",
@@ -172,7 +197,7 @@ async fn put_pin(
         id,
         date,
         &expected,
-        &input.pins,
+        &input.pins(),
         input.note.as_deref(),
     )
     .await?
@@ -223,14 +248,43 @@ fn with_result(test: SweatTest) -> SweatTestResult {
     SweatTestResult { test, result }
 }
 
+/// A sweat test: body mass before and after a session (Sawka et al. 2007).
 #[derive(Debug, Deserialize, ToSchema)]
 #[serde(deny_unknown_fields)]
 pub struct SweatTestInput {
     pub tested_on: NaiveDate,
-    #[serde(flatten)]
-    pub measurements: SweatRateInput,
+    /// Nude body mass before the session, kg.
+    #[schema(minimum = 25.0, maximum = 250.0)]
+    pub body_mass_before_kg: f64,
+    /// Nude body mass after the session, towel-dried, kg.
+    #[schema(minimum = 25.0, maximum = 250.0)]
+    pub body_mass_after_kg: f64,
+    /// Fluid drunk during the session, litres.
     #[serde(default)]
+    #[schema(minimum = 0.0, maximum = 10.0)]
+    pub fluid_drunk_l: f64,
+    /// Urine passed during the session, litres.
+    #[serde(default)]
+    #[schema(minimum = 0.0, maximum = 5.0)]
+    pub urine_l: f64,
+    /// Session duration, hours.
+    #[schema(exclusive_minimum = 0.0, maximum = 12.0)]
+    pub duration_hours: f64,
+    #[serde(default)]
+    #[schema(max_length = 500)]
     pub note: Option<String>,
+}
+
+impl SweatTestInput {
+    fn measurements(&self) -> SweatRateInput {
+        SweatRateInput {
+            body_mass_before_kg: self.body_mass_before_kg,
+            body_mass_after_kg: self.body_mass_after_kg,
+            fluid_drunk_l: self.fluid_drunk_l,
+            urine_l: self.urine_l,
+            duration_hours: self.duration_hours,
+        }
+    }
 }
 
 /// An athlete's sweat tests, newest first; the latest sets plans' fluid targets.
@@ -276,7 +330,7 @@ async fn add_sweat_test(
     if let Some(note) = &input.note {
         check_text(&mut issues, "note", note, 0, 500);
     }
-    if let Err(e) = sweat_rate(&input.measurements) {
+    if let Err(e) = sweat_rate(&input.measurements()) {
         issues.0.extend(e.issues);
     }
     issues.finish()?;
@@ -286,7 +340,7 @@ async fn add_sweat_test(
         athlete.team_id,
         id,
         input.tested_on,
-        &input.measurements,
+        &input.measurements(),
         input.note.as_deref(),
     )
     .await?;

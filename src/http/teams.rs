@@ -9,7 +9,7 @@ use utoipa_axum::{router::OpenApiRouter, routes};
 use uuid::Uuid;
 
 use super::auth::Caller;
-use super::extract::{IfMatch, JsonBody, PathIds, QueryParams};
+use super::extract::{IfMatch, JsonBody, MergePatch, PathIds, QueryParams};
 use super::{apply_merge_patch, deleted, json, versioned, written};
 use crate::AppState;
 use crate::domain::paging::{Page, PageParams};
@@ -27,6 +27,7 @@ pub fn router() -> OpenApiRouter<AppState> {
 #[serde(deny_unknown_fields)]
 #[into_params(parameter_in = Query)]
 pub struct TeamListParams {
+    #[param(minimum = 1, maximum = 200)]
     limit: Option<u32>,
     cursor: Option<String>,
 }
@@ -94,7 +95,7 @@ async fn update_team(
     caller: Caller,
     PathIds(team_id): PathIds<Uuid>,
     IfMatch(expected): IfMatch,
-    JsonBody(patch): JsonBody<serde_json::Value>,
+    MergePatch(patch): MergePatch,
 ) -> Result<Response> {
     caller.admin().or_else(|_| caller.write(team_id, "team"))?;
     teams::get(&state.db, team_id)

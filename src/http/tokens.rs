@@ -31,6 +31,7 @@ pub fn router() -> OpenApiRouter<AppState> {
 #[serde(deny_unknown_fields)]
 #[into_params(parameter_in = Query)]
 pub struct TokenListParams {
+    #[param(minimum = 1, maximum = 200)]
     limit: Option<u32>,
     cursor: Option<String>,
 }
@@ -137,7 +138,9 @@ async fn revoke_token(
 #[into_params(parameter_in = Query)]
 pub struct AuditParams {
     /// Entries after this sequence number (the `seq` of the last one you have).
+    #[param(minimum = 0)]
     after: Option<i64>,
+    #[param(minimum = 1, maximum = 200)]
     limit: Option<u32>,
 }
 

@@ -8,7 +8,7 @@ use crate::helpers::*;
 
 fn full_athlete() -> Value {
     json!({
-        "display_name": "Rui Tavora",
+        "display_name": "Oren Oakhurst",
         "sex": "male",
         "date_of_birth": "2001-04-17",
         "height_cm": 178,
@@ -71,7 +71,7 @@ async fn a_planner_creates_reads_changes_and_erases_an_athlete() {
         .await
         .unwrap()
         .unwrap();
-    assert_eq!(stored.display_name, "Rui Tavora");
+    assert_eq!(stored.display_name, "Oren Oakhurst");
     assert_eq!(stored.hr_max, Some(196.0));
     assert_eq!(stored.goal_rate_kg_per_week, Some(0.4));
 
@@ -758,7 +758,7 @@ async fn erasing_an_athlete_leaves_none_of_their_values_anywhere_in_the_audit_tr
     assert_eq!(app.delete(&path, &app.admin, None).await.status(), 204);
     let trail = serde_json::to_string(&app.audit(team).await).unwrap();
     for value in [
-        "Rui Tavora",
+        "Oren Oakhurst",
         "2001-04-17",
         "74.5",
         "73.9",
