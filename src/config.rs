@@ -45,6 +45,13 @@ pub struct Config {
     /// script to measure what the HTTP stack allows (off in production).
     #[arg(long, env = "GLYCOWEEK_CEILING_ENDPOINT")]
     pub ceiling_endpoint: bool,
+    /// Memory for computed plans, MiB (plans are keyed by their inputs'
+    /// version, so a cached plan is never stale); 0 turns the cache off.
+    #[arg(long, env = "GLYCOWEEK_PLAN_CACHE_MIB", default_value_t = 128,
+          value_parser = clap::value_parser!(u64).range(0..=16384))]
+    pub plan_cache_mib_raw: u64,
+    #[arg(skip)]
+    pub plan_cache_mib: usize,
     #[arg(skip)]
     pub body_limit_bytes: usize,
 }
@@ -53,6 +60,7 @@ impl Config {
     /// Fills derived values after parsing.
     pub fn finish(mut self) -> Self {
         self.body_limit_bytes = usize::try_from(self.body_limit_bytes_raw).unwrap_or(1_048_576);
+        self.plan_cache_mib = usize::try_from(self.plan_cache_mib_raw).unwrap_or(128);
         self
     }
 
@@ -67,6 +75,8 @@ impl Config {
             request_timeout_secs: 30,
             rate_limit_per_minute: 0,
             ceiling_endpoint: false,
+            plan_cache_mib_raw: 64,
+            plan_cache_mib: 64,
             body_limit_bytes: 1_048_576,
         }
     }

@@ -46,6 +46,18 @@ use store::Db;
 pub struct AppState {
     pub db: Db,
     pub config: Arc<Config>,
+    pub plan_cache: Arc<http::plan_cache::PlanCache>,
+}
+
+impl AppState {
+    pub fn new(db: Db, config: Config) -> Self {
+        let cache_bytes = config.plan_cache_mib.saturating_mul(1024 * 1024);
+        Self {
+            db,
+            config: Arc::new(config),
+            plan_cache: Arc::new(http::plan_cache::PlanCache::new(cache_bytes)),
+        }
+    }
 }
 
 const REQUEST_ID: HeaderName = HeaderName::from_static("x-request-id");

@@ -4,7 +4,6 @@
 
 use std::path::PathBuf;
 use std::process::ExitCode;
-use std::sync::Arc;
 
 use clap::{Parser, Subcommand};
 use glycoweek::config::{Config, LogFormat};
@@ -185,10 +184,7 @@ async fn serve(args: ServeArgs) -> Result<(), String> {
     let addr = listener.local_addr().map_err(|e| e.to_string())?;
     eprintln!("glycoweek is listening on http://{addr}  (API docs: http://{addr}/docs)");
     tracing::info!(%addr, database = %config.database.display(), "serving");
-    let state = AppState {
-        db: db.clone(),
-        config: Arc::new(config),
-    };
+    let state = AppState::new(db.clone(), config);
     glycoweek::serve(listener, state, glycoweek::shutdown_signal())
         .await
         .map_err(|e| e.to_string())?;

@@ -486,6 +486,7 @@ pub struct WeekPlan {
     pub thresholds: WeekThresholds,
     pub days: Vec<WeekDay>,
     /// Hourly estimated glycogen plus each session's start and end.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub glycogen_series: Vec<GlycogenPoint>,
     /// Warnings a dietitian acts on, by date and time.
     pub warnings: Vec<WeekWarning>,

@@ -11,12 +11,12 @@ pub mod fuel;
 pub mod middleware;
 pub mod openapi;
 pub mod plan;
+pub mod plan_cache;
 pub mod sessions;
 pub mod targets;
 pub mod teams;
 pub mod tokens;
 
-use axum::Json;
 use axum::extract::State;
 use axum::http::{HeaderValue, StatusCode, header};
 use axum::response::{IntoResponse, Response};
@@ -51,29 +51,47 @@ pub fn api_router() -> OpenApiRouter<AppState> {
 /// estimates carry no more precision than that, and 15 digits of noise make
 /// responses larger and harder to read.
 pub fn json<T: Serialize>(status: StatusCode, body: &T) -> Response {
-    match serde_json::to_value(body) {
-        Ok(mut value) => {
-            round_numbers(&mut value);
-            (status, Json(value)).into_response()
+    match to_json_bytes(body) {
+        Ok(bytes) => {
+            let mut res = (status, bytes).into_response();
+            res.headers_mut().insert(
+                header::CONTENT_TYPE,
+                HeaderValue::from_static("application/json"),
+            );
+            res
         }
         Err(e) => ApiError::internal(e).into_response(),
     }
 }
 
-fn round_numbers(value: &mut serde_json::Value) {
-    use serde_json::Value;
-    match value {
-        Value::Number(n) if n.is_f64() => {
-            if let Some(x) = n.as_f64() {
-                let rounded = (x * 1000.0).round() / 1000.0;
-                if let Some(r) = serde_json::Number::from_f64(rounded) {
-                    *n = r;
-                }
-            }
-        }
-        Value::Array(items) => items.iter_mut().for_each(round_numbers),
-        Value::Object(fields) => fields.values_mut().for_each(round_numbers),
-        _ => {}
+/// Serialises with floats rounded to 3 decimals, streaming (no value tree).
+pub fn to_json_bytes<T: Serialize>(body: &T) -> Result<Vec<u8>, serde_json::Error> {
+    let mut out = Vec::with_capacity(4096);
+    let mut ser = serde_json::Serializer::with_formatter(&mut out, RoundingFormatter);
+    body.serialize(&mut ser)?;
+    Ok(out)
+}
+
+struct RoundingFormatter;
+
+impl serde_json::ser::Formatter for RoundingFormatter {
+    fn write_f64<W: ?Sized + std::io::Write>(
+        &mut self,
+        writer: &mut W,
+        value: f64,
+    ) -> std::io::Result<()> {
+        let rounded = (value * 1000.0).round() / 1000.0;
+        // -0.0 reads oddly in a plan.
+        let rounded = if rounded == 0.0 { 0.0 } else { rounded };
+        serde_json::ser::CompactFormatter.write_f64(writer, rounded)
+    }
+
+    fn write_f32<W: ?Sized + std::io::Write>(
+        &mut self,
+        writer: &mut W,
+        value: f32,
+    ) -> std::io::Result<()> {
+        self.write_f64(writer, f64::from(value))
     }
 }
 

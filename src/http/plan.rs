@@ -64,6 +64,22 @@ pub struct PlanParams {
     start_glycogen_fraction: Option<f64>,
     /// Include each session's minute-by-minute fuel result (larger response).
     include_session_fuel: Option<bool>,
+    /// Include the hourly glycogen series for charts (larger response;
+    /// day and session start/end levels are always included).
+    include_glycogen_series: Option<bool>,
+}
+
+impl PlanParams {
+    /// Everything besides the span that changes a plan's body, for its ETag.
+    fn variant(&self, kind: &str) -> String {
+        format!(
+            "{kind}-g{}-f{}-s{}",
+            self.start_glycogen_fraction
+                .map_or("n".to_owned(), |f| format!("{f}")),
+            u8::from(self.include_session_fuel == Some(true)),
+            u8::from(self.include_glycogen_series == Some(true)),
+        )
+    }
 }
 
 /// Resolves the span of a plan request in the team's calendar.
@@ -145,6 +161,30 @@ fn with_etag(mut res: Response, etag: &str) -> Response {
     res
 }
 
+/// A response from the plan cache, if this exact plan was computed before.
+fn cached(state: &AppState, etag: &str) -> Option<Response> {
+    state.plan_cache.get(etag).map(|bytes| {
+        let mut res = (StatusCode::OK, bytes).into_response();
+        res.headers_mut().insert(
+            header::CONTENT_TYPE,
+            HeaderValue::from_static("application/json"),
+        );
+        with_etag(res, etag)
+    })
+}
+
+/// Serialises a plan, keeps it in the cache under its ETag, and responds with it.
+fn store_and_respond<T: Serialize>(state: &AppState, etag: &str, body: &T) -> Result<Response> {
+    let bytes = axum::body::Bytes::from(super::to_json_bytes(body).map_err(ApiError::internal)?);
+    state.plan_cache.put(etag, bytes.clone());
+    let mut res = (StatusCode::OK, bytes).into_response();
+    res.headers_mut().insert(
+        header::CONTENT_TYPE,
+        HeaderValue::from_static("application/json"),
+    );
+    Ok(with_etag(res, etag))
+}
+
 /// Loads the team's data and computes the plans of `athletes` (all active
 /// athletes when `None`) off the async runtime.
 async fn compute(
@@ -223,6 +263,7 @@ async fn athlete_plans(
     state: &AppState,
     data: &TeamData,
     weeks: Vec<AthleteWeek>,
+    include_glycogen_series: bool,
 ) -> Result<Vec<AthletePlan>> {
     let sweat = planning::latest_sweat_tests(&state.db, data.team.id).await?;
     Ok(weeks
@@ -233,7 +274,12 @@ async fn athlete_plans(
                 _ => None,
             };
             let (plan, problems) = match w.plan {
-                Ok(plan) => (Some(plan), Vec::new()),
+                Ok(mut plan) => {
+                    if !include_glycogen_series {
+                        plan.glycogen_series.clear();
+                    }
+                    (Some(plan), Vec::new())
+                }
                 Err(problems) => (None, problems),
             };
             AthletePlan {
@@ -264,21 +310,22 @@ async fn team_plan(
     let team = visible_team(&state, &caller, team_id).await?;
     let span = span_of(&q, &team)?;
     let version = audit::team_version(&state.db.read, team_id).await?;
-    let etag = plan_etag(
-        version,
-        span,
-        if q.include_session_fuel == Some(true) {
-            "full"
-        } else {
-            "plan"
-        },
-    );
+    let etag = plan_etag(version, span, &q.variant("plan"));
     if let Some(res) = not_modified(&headers, &etag) {
+        return Ok(res);
+    }
+    if let Some(res) = cached(&state, &etag) {
         return Ok(res);
     }
     let (data, weeks) = compute(&state, team, &q, span, None).await?;
     save_snapshot(&state, team_id, version, span, &weeks).await;
-    let athletes = athlete_plans(&state, &data, weeks).await?;
+    let athletes = athlete_plans(
+        &state,
+        &data,
+        weeks,
+        q.include_glycogen_series == Some(true),
+    )
+    .await?;
     let body = TeamPlan {
         team_id,
         team_name: data.team.name.clone(),
@@ -289,7 +336,7 @@ async fn team_plan(
         athletes,
         cautions: planner::general_cautions(),
     };
-    Ok(with_etag(json(StatusCode::OK, &body), &etag))
+    store_and_respond(&state, &etag, &body)
 }
 
 /// One row of the squad summary: an athlete's day at a glance.
@@ -457,8 +504,11 @@ async fn team_summary(
     let team = visible_team(&state, &caller, team_id).await?;
     let span = span_of(&q, &team)?;
     let version = audit::team_version(&state.db.read, team_id).await?;
-    let etag = plan_etag(version, span, "summary");
+    let etag = plan_etag(version, span, &q.variant("summary"));
     if let Some(res) = not_modified(&headers, &etag) {
+        return Ok(res);
+    }
+    if let Some(res) = cached(&state, &etag) {
         return Ok(res);
     }
     let (_, weeks) = compute(&state, team, &q, span, None).await?;
@@ -477,7 +527,7 @@ async fn team_summary(
             .collect(),
         cautions: planner::general_cautions(),
     };
-    Ok(with_etag(json(StatusCode::OK, &body), &etag))
+    store_and_respond(&state, &etag, &body)
 }
 
 const CSV_COLUMNS: [&str; 17] = [
@@ -566,7 +616,7 @@ async fn team_summary_csv(
     let team = visible_team(&state, &caller, team_id).await?;
     let span = span_of(&q, &team)?;
     let version = audit::team_version(&state.db.read, team_id).await?;
-    let etag = plan_etag(version, span, "csv");
+    let etag = plan_etag(version, span, &q.variant("csv"));
     if let Some(res) = not_modified(&headers, &etag) {
         return Ok(res);
     }
@@ -704,6 +754,7 @@ async fn plan_changes(
         week: c.week,
         start_glycogen_fraction: None,
         include_session_fuel: None,
+        include_glycogen_series: None,
     };
     let span = span_of(&q, &team)?;
     let version = audit::team_version(&state.db.read, team_id).await?;
@@ -756,32 +807,28 @@ async fn athlete_plan(
     let team = visible_team(&state, &caller, athlete.team_id).await?;
     let span = span_of(&q, &team)?;
     let version = audit::team_version(&state.db.read, team.id).await?;
-    let etag = plan_etag(
-        version,
-        span,
-        &format!(
-            "{athlete_id}-{}",
-            if q.include_session_fuel == Some(true) {
-                "full"
-            } else {
-                "plan"
-            }
-        ),
-    );
+    let etag = plan_etag(version, span, &q.variant(&format!("athlete-{athlete_id}")));
     if let Some(res) = not_modified(&headers, &etag) {
         return Ok(res);
     }
+    if let Some(res) = cached(&state, &etag) {
+        return Ok(res);
+    }
     let (data, weeks) = compute(&state, team, &q, span, Some(athlete_id)).await?;
-    let Some(plan) = athlete_plans(&state, &data, weeks)
-        .await?
-        .into_iter()
-        .next()
-    else {
+    let Some(plan) = athlete_plans(
+        &state,
+        &data,
+        weeks,
+        q.include_glycogen_series == Some(true),
+    )
+    .await?
+    .into_iter()
+    .next() else {
         return Err(ApiError::Conflict(
             "This athlete is archived: archived athletes are not planned. Set status to active to plan them.".into(),
         ));
     };
-    Ok(with_etag(json(StatusCode::OK, &plan), &etag))
+    store_and_respond(&state, &etag, &plan)
 }
 
 #[derive(Debug, Deserialize, IntoParams)]

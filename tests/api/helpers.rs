@@ -1,7 +1,6 @@
 //! `spawn_app()`: a running service on its own temporary database.
 
 use std::path::PathBuf;
-use std::sync::Arc;
 
 use glycoweek::AppState;
 use glycoweek::config::Config;
@@ -48,10 +47,7 @@ pub async fn spawn_on(dir: tempfile::TempDir, db_path: PathBuf) -> TestApp {
     // Bind first, then spawn: the port is ready before any request is sent.
     let listener = TcpListener::bind("127.0.0.1:0").await.expect("bind");
     let addr = listener.local_addr().expect("addr");
-    let state = AppState {
-        db: db.clone(),
-        config: Arc::new(Config::for_database(db_path.clone())),
-    };
+    let state = AppState::new(db.clone(), Config::for_database(db_path.clone()));
     let (tx, rx) = tokio::sync::oneshot::channel::<()>();
     let server = tokio::spawn(async move {
         glycoweek::serve(listener, state, async {
