@@ -325,7 +325,7 @@ pub fn fluid_guide(
     test: &crate::store::planning::SweatTest,
     plan: &WeekPlan,
 ) -> Option<FluidGuide> {
-    let rate = crate::engine::hydration::sweat_rate(&test.input)
+    let rate = crate::engine::hydration::sweat_rate(&test.input())
         .ok()?
         .sweat_rate_l_per_hour;
     let sessions = plan

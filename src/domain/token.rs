@@ -22,7 +22,7 @@ pub enum Role {
 #[serde(deny_unknown_fields)]
 pub struct TokenInput {
     /// What the token is for, e.g. "kitchen tablet".
-    #[schema(example = "club app, read only")]
+    #[schema(example = "club app, read only", min_length = 1, max_length = 100)]
     pub label: String,
     pub role: Role,
     /// Required for planner and reader; absent for admin.

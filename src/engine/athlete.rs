@@ -104,6 +104,9 @@ pub fn resolve_athlete(profile: &AthleteProfile) -> Result<ResolvedAthlete, Inva
     // unit mistakes (pounds, metres, fractions typed as percentages).
     issues.range("profile.age_years", profile.age_years, 10.0, 100.0, "years");
     issues.range("profile.height_cm", profile.height_cm, 120.0, 230.0, "cm");
+    if let Some(rate) = profile.goal_rate_kg_per_week {
+        issues.range("profile.goal_rate_kg_per_week", rate, 0.0, 2.0, "kg/week");
+    }
     issues.range(
         "profile.body_mass_kg",
         profile.body_mass_kg,

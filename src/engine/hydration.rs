@@ -17,16 +17,21 @@ use super::{InvalidInput, Issues};
 #[serde(deny_unknown_fields)]
 pub struct SweatRateInput {
     /// Nude body mass before the session, kg (25 to 250).
+    #[schema(minimum = 25.0, maximum = 250.0)]
     pub body_mass_before_kg: f64,
     /// Nude body mass after the session, towel-dried, kg (25 to 250).
+    #[schema(minimum = 25.0, maximum = 250.0)]
     pub body_mass_after_kg: f64,
     /// Fluid drunk during the session, litres (0 to 10).
     #[serde(default)]
+    #[schema(minimum = 0.0, maximum = 10.0)]
     pub fluid_drunk_l: f64,
     /// Urine passed during the session, litres (0 to 5).
     #[serde(default)]
+    #[schema(minimum = 0.0, maximum = 5.0)]
     pub urine_l: f64,
     /// Session duration, hours (over 0, at most 12).
+    #[schema(exclusive_minimum = 0.0, maximum = 12.0)]
     pub duration_hours: f64,
 }
 

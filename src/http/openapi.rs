@@ -178,7 +178,65 @@ fn refine(doc: &mut Value) {
         let patch_schema = merge_patch_schema(&schemas[input]);
         schemas[patch] = patch_schema;
     }
+    // Activities are the catalogue's keys.
+    let keys: Vec<Value> = crate::engine::catalogue::ACTIVITIES
+        .iter()
+        .map(|a| Value::from(a.key))
+        .collect();
+    if let Some(forms) = schemas["Intensity"]["oneOf"].as_array_mut() {
+        for form in forms {
+            if form["properties"].get("activity").is_some() {
+                form["properties"]["activity"]["enum"] = Value::Array(keys.clone());
+            }
+        }
+    }
+    // Local (zone-less) date-times: every date-time except the `..._at` instants.
+    if let Some(all) = schemas.as_object_mut() {
+        for schema in all.values_mut() {
+            mark_local_date_times(schema);
+        }
+    }
+    // Admin tokens have no team; planner and reader tokens need one.
+    let token = schemas["TokenInput"].clone();
+    let mut admin = token.clone();
+    admin["properties"]["role"] = serde_json::json!({"type": "string", "enum": ["admin"]});
+    admin["properties"]["team_id"] = serde_json::json!({"type": "null"});
+    let mut scoped = token;
+    scoped["properties"]["role"] =
+        serde_json::json!({"type": "string", "enum": ["planner", "reader"]});
+    scoped["properties"]["team_id"] = serde_json::json!({"type": "string", "format": "uuid"});
+    if let Some(required) = scoped["required"].as_array_mut() {
+        required.push("team_id".into());
+    }
+    let description = schemas["TokenInput"]["description"].clone();
+    schemas["TokenInput"] =
+        serde_json::json!({"oneOf": [admin, scoped], "description": description});
+
     let paths = &mut doc["paths"];
+    if let Some(all) = paths.as_object_mut() {
+        for item in all.values_mut() {
+            let Some(operations) = item.as_object_mut() else {
+                continue;
+            };
+            for operation in operations.values_mut() {
+                let Some(parameters) = operation["parameters"].as_array_mut() else {
+                    continue;
+                };
+                for parameter in parameters {
+                    match parameter["name"].as_str() {
+                        Some("if-match") | Some("if-none-match") => {
+                            parameter["schema"] =
+                                serde_json::json!({"type": "string", "pattern": ENTITY_TAGS});
+                        }
+                        Some("cursor") => {
+                            parameter["schema"] = serde_json::json!({"type": ["string", "null"], "pattern": "^[A-Za-z0-9_-]+$"});
+                        }
+                        _ => {}
+                    }
+                }
+            }
+        }
+    }
     set_body_schema(
         &mut paths["/v1/teams/{team_id}/athletes"]["post"],
         "application/json",
@@ -233,6 +291,47 @@ fn merge_patch_schema(input: &Value) -> Value {
         obj.insert("additionalProperties".into(), false.into());
     }
     patch
+}
+
+/// `*` or a comma-separated list of entity tags (RFC 9110).
+const ENTITY_TAGS: &str = "^(\\*|(W/)?\"[^\"]*\"(\\s*,\\s*(W/)?\"[^\"]*\")*)$";
+
+fn mark_local_date_times(schema: &mut Value) {
+    match schema {
+        Value::Object(map) => {
+            if let Some(props) = map.get_mut("properties").and_then(Value::as_object_mut) {
+                for (name, prop) in props.iter_mut() {
+                    if !name.ends_with("_at") {
+                        localise(prop);
+                    }
+                }
+            }
+            for key in ["oneOf", "anyOf", "allOf"] {
+                if let Some(alts) = map.get_mut(key).and_then(Value::as_array_mut) {
+                    alts.iter_mut().for_each(mark_local_date_times);
+                }
+            }
+        }
+        Value::Array(items) => items.iter_mut().for_each(mark_local_date_times),
+        _ => {}
+    }
+}
+
+fn localise(prop: &mut Value) {
+    if prop["format"] == "date-time" {
+        if let Some(obj) = prop.as_object_mut() {
+            obj.remove("format");
+            obj.insert("pattern".into(), LOCAL_DATE_TIME.into());
+        }
+    }
+    if prop["items"].is_object() {
+        localise(&mut prop["items"]);
+    }
+    for key in ["oneOf", "anyOf"] {
+        if let Some(alts) = prop.get_mut(key).and_then(Value::as_array_mut) {
+            alts.iter_mut().for_each(localise);
+        }
+    }
 }
 
 fn is_nullable(schema: &Value) -> bool {

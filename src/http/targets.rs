@@ -244,7 +244,7 @@ pub struct SweatTestResult {
 }
 
 fn with_result(test: SweatTest) -> SweatTestResult {
-    let result = sweat_rate(&test.input).ok();
+    let result = sweat_rate(&test.input()).ok();
     SweatTestResult { test, result }
 }
 

@@ -160,6 +160,9 @@ async fn list_audit(
         cursor: None,
     }
     .limit()?;
+    if q.after.is_some_and(|a| a < 0) {
+        return Err(ApiError::field("after", "must be 0 or more"));
+    }
     let entries = audit::list(&state.db.read, Some(team_id), q.after.unwrap_or(0), limit).await?;
     Ok(json(StatusCode::OK, &entries))
 }

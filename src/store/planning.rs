@@ -20,11 +20,25 @@ use crate::engine::hydration::SweatRateInput;
 pub struct DayPin {
     pub athlete_id: Uuid,
     pub local_date: NaiveDate,
-    #[serde(flatten)]
-    pub pins: DayPins,
+    /// Daily carbohydrate, g/kg.
+    pub carbohydrate_g_per_kg: Option<f64>,
+    /// Daily protein, g/kg.
+    pub protein_g_per_kg: Option<f64>,
+    /// Daily energy intake, kcal.
+    pub energy_kcal: Option<f64>,
     pub note: Option<String>,
     pub version: i64,
     pub updated_at: DateTime<Utc>,
+}
+
+impl DayPin {
+    pub fn pins(&self) -> DayPins {
+        DayPins {
+            carbohydrate_g_per_kg: self.carbohydrate_g_per_kg,
+            protein_g_per_kg: self.protein_g_per_kg,
+            energy_kcal: self.energy_kcal,
+        }
+    }
 }
 
 struct PinRow {
@@ -43,11 +57,9 @@ impl PinRow {
         Ok(DayPin {
             athlete_id: super::uuid(&self.athlete_id)?,
             local_date: super::date(&self.local_date)?,
-            pins: DayPins {
-                carbohydrate_g_per_kg: self.carbohydrate_g_per_kg,
-                protein_g_per_kg: self.protein_g_per_kg,
-                energy_kcal: self.energy_kcal,
-            },
+            carbohydrate_g_per_kg: self.carbohydrate_g_per_kg,
+            protein_g_per_kg: self.protein_g_per_kg,
+            energy_kcal: self.energy_kcal,
             note: self.note,
             version: self.version,
             updated_at: parse_instant(&self.updated_at)?,
@@ -123,7 +135,7 @@ pub async fn pins_for_team(
     .fetch_all(&db.read)
     .await?
     .into_iter()
-    .map(|row| row.into_pin().map(|p| ((p.athlete_id, p.local_date), p.pins)))
+    .map(|row| row.into_pin().map(|p| ((p.athlete_id, p.local_date), p.pins())))
     .collect()
 }
 
@@ -245,10 +257,26 @@ pub struct SweatTest {
     pub id: Uuid,
     pub athlete_id: Uuid,
     pub tested_on: NaiveDate,
-    #[serde(flatten)]
-    pub input: SweatRateInput,
+    pub body_mass_before_kg: f64,
+    pub body_mass_after_kg: f64,
+    pub fluid_drunk_l: f64,
+    pub urine_l: f64,
+    pub duration_hours: f64,
     pub note: Option<String>,
     pub created_at: DateTime<Utc>,
+}
+
+impl SweatTest {
+    /// The measurements, as the sweat-rate calculator takes them.
+    pub fn input(&self) -> SweatRateInput {
+        SweatRateInput {
+            body_mass_before_kg: self.body_mass_before_kg,
+            body_mass_after_kg: self.body_mass_after_kg,
+            fluid_drunk_l: self.fluid_drunk_l,
+            urine_l: self.urine_l,
+            duration_hours: self.duration_hours,
+        }
+    }
 }
 
 struct SweatRow {
@@ -270,13 +298,11 @@ impl SweatRow {
             id: super::uuid(&self.id)?,
             athlete_id: super::uuid(&self.athlete_id)?,
             tested_on: super::date(&self.tested_on)?,
-            input: SweatRateInput {
-                body_mass_before_kg: self.body_mass_before_kg,
-                body_mass_after_kg: self.body_mass_after_kg,
-                fluid_drunk_l: self.fluid_drunk_l,
-                urine_l: self.urine_l,
-                duration_hours: self.duration_hours,
-            },
+            body_mass_before_kg: self.body_mass_before_kg,
+            body_mass_after_kg: self.body_mass_after_kg,
+            fluid_drunk_l: self.fluid_drunk_l,
+            urine_l: self.urine_l,
+            duration_hours: self.duration_hours,
             note: self.note,
             created_at: parse_instant(&self.created_at)?,
         })
