@@ -184,3 +184,45 @@ async fn a_backup_opens_and_holds_the_same_rows() {
         "an existing file is never overwritten"
     );
 }
+
+#[tokio::test]
+async fn a_read_only_database_answers_503_and_loses_nothing() {
+    let app = spawn_app().await;
+    let team = app.team("Read-only").await;
+    // The writer pool has exactly one connection: make it refuse writes,
+    // as a read-only mount or a full disk would.
+    sqlx::query("PRAGMA query_only = ON")
+        .execute(&app.db.write)
+        .await
+        .unwrap();
+    let res = app
+        .post(
+            &format!("/v1/teams/{team}/sessions"),
+            &app.admin,
+            &session_body("2026-12-08", "10:00"),
+        )
+        .await;
+    assert!(res.headers().contains_key("retry-after"));
+    let p = problem(res, 503).await;
+    assert_eq!(p["type"], "/problems/storage-unavailable");
+    // Reads still work, and nothing half-written appeared.
+    let list: serde_json::Value = app
+        .get(&format!("/v1/teams/{team}/sessions"), &app.admin)
+        .await
+        .json()
+        .await
+        .unwrap();
+    assert!(list["items"].as_array().unwrap().is_empty());
+    sqlx::query("PRAGMA query_only = OFF")
+        .execute(&app.db.write)
+        .await
+        .unwrap();
+    let res = app
+        .post(
+            &format!("/v1/teams/{team}/sessions"),
+            &app.admin,
+            &session_body("2026-12-08", "10:00"),
+        )
+        .await;
+    assert_eq!(res.status(), 201, "writes resume once storage is back");
+}
