@@ -60,7 +60,7 @@ pub struct AthleteInput {
     pub training_status: TrainingStatus,
     /// Position or event group, e.g. "midfield".
     #[serde(default)]
-    #[schema(min_length = 1, max_length = 60)]
+    #[schema(max_length = 60)]
     pub position_group: Option<String>,
     #[serde(default = "maintain")]
     pub goal: GoalDirection,

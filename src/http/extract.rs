@@ -170,7 +170,7 @@ impl<S: Send + Sync> FromRequestParts<S> for IfMatch {
 }
 
 /// `"opaque"` or `W/"opaque"` (RFC 9110 section 8.8.3).
-fn is_entity_tag(tag: &str) -> bool {
+pub fn is_entity_tag(tag: &str) -> bool {
     let quoted = tag.strip_prefix("W/").unwrap_or(tag);
     quoted.len() >= 2
         && quoted.starts_with('"')

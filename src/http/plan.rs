@@ -132,22 +132,31 @@ fn plan_etag(version: i64, span: (NaiveDate, NaiveDate), variant: &str) -> Strin
     )
 }
 
-fn not_modified(headers: &HeaderMap, etag: &str) -> Option<Response> {
-    let matches = headers
-        .get_all(header::IF_NONE_MATCH)
+fn not_modified(headers: &HeaderMap, etag: &str) -> Result<Option<Response>> {
+    let mut tags = Vec::new();
+    for value in headers.get_all(header::IF_NONE_MATCH) {
+        let value = value.to_str().map_err(|_| {
+            ApiError::BadRequest("If-None-Match must be * or a list of entity tags.".into())
+        })?;
+        for tag in value.split(',').map(str::trim) {
+            if tag != "*" && !super::extract::is_entity_tag(tag) {
+                return Err(ApiError::BadRequest(
+                    "If-None-Match must be * or a list of entity tags.".into(),
+                ));
+            }
+            tags.push(tag.to_owned());
+        }
+    }
+    // Weak comparison (RFC 9110 section 13.1.2).
+    let matches = tags
         .iter()
-        .filter_map(|v| v.to_str().ok())
-        .flat_map(|v| v.split(','))
-        .any(|tag| {
-            let tag = tag.trim();
-            tag == "*" || tag.trim_start_matches("W/") == etag
-        });
-    matches.then(|| {
+        .any(|tag| tag == "*" || tag.trim_start_matches("W/") == etag);
+    Ok(matches.then(|| {
         let mut res = StatusCode::NOT_MODIFIED.into_response();
         res.headers_mut()
             .insert(header::ETAG, HeaderValue::from_str(etag).expect("ascii"));
         res
-    })
+    }))
 }
 
 fn with_etag(mut res: Response, etag: &str) -> Response {
@@ -311,7 +320,7 @@ async fn team_plan(
     let span = span_of(&q, &team)?;
     let version = audit::team_version(&state.db.read, team_id).await?;
     let etag = plan_etag(version, span, &q.variant("plan"));
-    if let Some(res) = not_modified(&headers, &etag) {
+    if let Some(res) = not_modified(&headers, &etag)? {
         return Ok(res);
     }
     if let Some(res) = cached(&state, &etag) {
@@ -505,7 +514,7 @@ async fn team_summary(
     let span = span_of(&q, &team)?;
     let version = audit::team_version(&state.db.read, team_id).await?;
     let etag = plan_etag(version, span, &q.variant("summary"));
-    if let Some(res) = not_modified(&headers, &etag) {
+    if let Some(res) = not_modified(&headers, &etag)? {
         return Ok(res);
     }
     if let Some(res) = cached(&state, &etag) {
@@ -617,7 +626,7 @@ async fn team_summary_csv(
     let span = span_of(&q, &team)?;
     let version = audit::team_version(&state.db.read, team_id).await?;
     let etag = plan_etag(version, span, &q.variant("csv"));
-    if let Some(res) = not_modified(&headers, &etag) {
+    if let Some(res) = not_modified(&headers, &etag)? {
         return Ok(res);
     }
     let (_, weeks) = compute(&state, team, &q, span, None).await?;
@@ -808,7 +817,7 @@ async fn athlete_plan(
     let span = span_of(&q, &team)?;
     let version = audit::team_version(&state.db.read, team.id).await?;
     let etag = plan_etag(version, span, &q.variant(&format!("athlete-{athlete_id}")));
-    if let Some(res) = not_modified(&headers, &etag) {
+    if let Some(res) = not_modified(&headers, &etag)? {
         return Ok(res);
     }
     if let Some(res) = cached(&state, &etag) {
