@@ -183,7 +183,7 @@ print('[[operations]]\ninclude-name = "DELETE /v1/teams/{team_id}"\nphases.state
 # positive_data_acceptance expects every schema-valid request to succeed.
 # These operations have rules that JSON Schema cannot state, so schema-valid
 # requests can rightly get 422 (the problem names the field and the rule):
-# - opaque cursors are valid only when this API issued them;
+# - opaque cursors are valid only when this API issued them; `to` not before `from`;
 # - `week` excludes `from`/`to`, and `since_version` needs a computed plan;
 # - dates relative to today (no future readings, ages 8-90);
 # - rules across fields: hr_rest < hr_max, fat-free mass < body mass, goal and
@@ -194,7 +194,7 @@ print('[[operations]]\ninclude-name = "DELETE /v1/teams/{team_id}"\nphases.state
 # still runs on them.
 for operation in [
     "GET /v1/teams", "GET /v1/teams/{team_id}/athletes", "GET /v1/teams/{team_id}/sessions",
-    "GET /v1/athletes/{athlete_id}/body-mass", "GET /v1/tokens",
+    "GET /v1/athletes/{athlete_id}/body-mass", "GET /v1/tokens", "GET /v1/athletes/{athlete_id}/pins",
     "GET /v1/teams/{team_id}/plan", "GET /v1/teams/{team_id}/plan/summary",
     "GET /v1/teams/{team_id}/plan/summary.csv", "GET /v1/teams/{team_id}/plan/changes",
     "GET /v1/athletes/{athlete_id}/plan",

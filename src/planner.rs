@@ -328,6 +328,9 @@ pub fn fluid_guide(
     let rate = crate::engine::hydration::sweat_rate(&test.input())
         .ok()?
         .sweat_rate_l_per_hour;
+    if !rate.is_finite() {
+        return None;
+    }
     let sessions = plan
         .days
         .iter()

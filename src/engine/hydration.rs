@@ -31,7 +31,7 @@ pub struct SweatRateInput {
     #[schema(minimum = 0.0, maximum = 5.0)]
     pub urine_l: f64,
     /// Session duration, hours (over 0, at most 12).
-    #[schema(exclusive_minimum = 0.0, maximum = 12.0)]
+    #[schema(minimum = 0.0834, maximum = 12.0)]
     pub duration_hours: f64,
 }
 
@@ -54,6 +54,9 @@ pub struct SweatRate {
     pub source: String,
 }
 
+/// Shortest weighed session accepted, hours.
+pub const MIN_DURATION_HOURS: f64 = 5.0 / 60.0;
+
 /// Body-mass loss above which performance suffers (Sawka et al. 2007).
 pub const MAX_BODY_MASS_LOSS_PERCENT: f64 = 2.0;
 
@@ -75,9 +78,10 @@ pub fn sweat_rate(input: &SweatRateInput) -> Result<SweatRate, InvalidInput> {
     );
     issues.range("fluid_drunk_l", input.fluid_drunk_l, 0.0, 10.0, "L");
     issues.range("urine_l", input.urine_l, 0.0, 5.0, "L");
+    // At least five minutes: a rate from a shorter weighing is noise.
     issues.range("duration_hours", input.duration_hours, 0.0, 12.0, "h");
-    if input.duration_hours == 0.0 {
-        issues.push("duration_hours", "must be over 0 h");
+    if input.duration_hours < MIN_DURATION_HOURS {
+        issues.push("duration_hours", "must be at least 5 minutes (0.083 h)");
     }
     let mass_change = input.body_mass_before_kg - input.body_mass_after_kg;
     let sweat_loss_l = mass_change + input.fluid_drunk_l - input.urine_l;

@@ -101,6 +101,15 @@ fn span_of(q: &PlanParams, team: &Team) -> Result<(NaiveDate, NaiveDate)> {
         (from, q.to.unwrap_or(from + Days::new(6)))
     };
     let mut issues = crate::engine::Issues::default();
+    if let Some(f) = q.start_glycogen_fraction {
+        issues.range(
+            "start_glycogen_fraction",
+            f,
+            0.2,
+            1.0,
+            "(fraction of capacity)",
+        );
+    }
     crate::domain::session::check_date(&mut issues, "from", from);
     crate::domain::session::check_date(&mut issues, "to", to);
     issues.finish()?;

@@ -268,7 +268,7 @@ pub struct SweatTestInput {
     #[schema(minimum = 0.0, maximum = 5.0)]
     pub urine_l: f64,
     /// Session duration, hours.
-    #[schema(exclusive_minimum = 0.0, maximum = 12.0)]
+    #[schema(minimum = 0.0834, maximum = 12.0)]
     pub duration_hours: f64,
     #[serde(default)]
     #[schema(max_length = 500)]
