@@ -153,6 +153,10 @@ def bind(parameter, dictionary):
 print('[checks]\nenabled = true\n')
 print('[checks.positive_data_acceptance]')
 print('expected-statuses = ["2xx", "3xx", "401", "403", "404", "409", "412", "429", "5xx"]\n')
+# An If-Match that is not a list of our entity tags can never match, so the
+# precondition is false: 412 is the rejection RFC 9110 prescribes for it.
+print('[checks.negative_data_rejection]')
+print('expected-statuses = ["400", "401", "403", "404", "405", "406", "409", "412", "415", "422", "428", "429", "5xx"]\n')
 values("teams", teams)
 values("athletes", athletes)
 values("sessions", sessions)
@@ -189,7 +193,8 @@ print('[[operations]]\ninclude-name = "DELETE /v1/teams/{team_id}"\nphases.state
 # - rules across fields: hr_rest < hr_max, fat-free mass < body mass, goal and
 #   rate, carbohydrate loading only for a match, participation modes, at least
 #   one pin, sessions inside the planned day, a shortened part shorter than
-#   the session.
+#   the session;
+# - references to other records (a token's team) must exist.
 # Every other check, including not_a_server_error and the negative checks,
 # still runs on them.
 for operation in [
@@ -203,7 +208,7 @@ for operation in [
     "POST /v1/teams/{team_id}/sessions", "POST /v1/teams/{team_id}/sessions/import",
     "PATCH /v1/sessions/{session_id}", "PUT /v1/sessions/{session_id}/participation/{athlete_id}",
     "PUT /v1/athletes/{athlete_id}/pins/{date}", "POST /v1/estimate/day", "POST /v1/estimate/session",
-    "POST /v1/estimate/sweat-rate", "PUT /v1/teams/{team_id}/plan-settings",
+    "POST /v1/estimate/sweat-rate", "PUT /v1/teams/{team_id}/plan-settings", "POST /v1/tokens",
 ]:
     print(f'[[operations]]\ninclude-name = "{operation}"\nchecks.positive_data_acceptance.enabled = false\n')
 PY

@@ -156,16 +156,15 @@ impl<S: Send + Sync> FromRequestParts<S> for IfMatch {
         if values.is_empty() || values.iter().any(|v| v.trim() == "*") {
             return Ok(IfMatch(Precondition::None));
         }
-        let mut versions = Vec::new();
-        for tag in values.iter().flat_map(|v| v.split(',')).map(str::trim) {
-            if !is_entity_tag(tag) {
-                return Err(ApiError::BadRequest(
-                    "If-Match must be * or a list of entity tags such as \"v3\".".into(),
-                ));
-            }
-            // A weak or foreign tag is valid syntax that can never match (412).
-            versions.extend(parse_etag(tag));
-        }
+        // Tags that are weak, foreign or not tags at all can never match the
+        // current version: the precondition is false (412), as RFC 9110 has it.
+        let versions = values
+            .iter()
+            .flat_map(|v| v.split(','))
+            .map(str::trim)
+            .filter(|tag| is_entity_tag(tag))
+            .filter_map(parse_etag)
+            .collect();
         Ok(IfMatch(Precondition::OneOf(versions)))
     }
 }
