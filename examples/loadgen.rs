@@ -306,18 +306,15 @@ async fn free_slots(
             .or_default()
             .push((start, start + minutes));
     }
+    // One slot a day, in the evening after the day's last session: a write
+    // session moved anywhere inside it can never overlap another session.
     let mut slots = Vec::new();
-    for (date, mut taken) in busy {
-        taken.sort_unstable();
-        let mut free_from = DAY_OPENS;
-        for (start, end) in taken.into_iter().chain([(DAY_CLOSES, DAY_CLOSES)]) {
-            let (lo, hi) = (free_from + MARGIN, start.saturating_sub(MARGIN));
-            if hi >= lo + SLOT_MINUTES {
-                // Latest start that still ends inside the slot.
-                slots.push((date.clone(), lo, lo + SLOT_MINUTES - WRITE_MINUTES));
-                break; // one per day keeps the week realistic
-            }
-            free_from = free_from.max(end);
+    for (date, taken) in busy {
+        let last_end = taken.iter().map(|(_, end)| *end).max().unwrap_or(DAY_OPENS);
+        let earliest = last_end.max(DAY_OPENS) + 2 * 60;
+        let latest = earliest + SLOT_MINUTES - WRITE_MINUTES;
+        if latest + WRITE_MINUTES + MARGIN <= DAY_CLOSES {
+            slots.push((date, earliest, latest));
         }
     }
     Ok(slots)
