@@ -179,6 +179,39 @@ fn with_etag(mut res: Response, etag: &str) -> Response {
     res
 }
 
+/// The span, input version and ETag of a plan read.
+struct PlanKey {
+    span: (NaiveDate, NaiveDate),
+    version: i64,
+    etag: String,
+}
+
+/// Resolves a plan read before computing anything: answers 304 when the
+/// client has it, or from the cache when it was computed before; otherwise
+/// returns what the computation needs.
+async fn prepare(
+    state: &AppState,
+    headers: &HeaderMap,
+    team: &Team,
+    q: &PlanParams,
+    variant: &str,
+) -> Result<std::result::Result<Response, PlanKey>> {
+    let span = span_of(q, team)?;
+    let version = audit::team_version(&state.db.read, team.id).await?;
+    let etag = plan_etag(version, span, &q.variant(variant));
+    if let Some(res) = not_modified(headers, &etag)? {
+        return Ok(Ok(res));
+    }
+    if let Some(res) = cached(state, &etag) {
+        return Ok(Ok(res));
+    }
+    Ok(Err(PlanKey {
+        span,
+        version,
+        etag,
+    }))
+}
+
 /// A response from the plan cache, if this exact plan was computed before.
 fn cached(state: &AppState, etag: &str) -> Option<Response> {
     state.plan_cache.get(etag).map(|bytes| {
@@ -326,15 +359,14 @@ async fn team_plan(
     QueryParams(q): QueryParams<PlanParams>,
 ) -> Result<Response> {
     let team = visible_team(&state, &caller, team_id).await?;
-    let span = span_of(&q, &team)?;
-    let version = audit::team_version(&state.db.read, team_id).await?;
-    let etag = plan_etag(version, span, &q.variant("plan"));
-    if let Some(res) = not_modified(&headers, &etag)? {
-        return Ok(res);
-    }
-    if let Some(res) = cached(&state, &etag) {
-        return Ok(res);
-    }
+    let PlanKey {
+        span,
+        version,
+        etag,
+    } = match prepare(&state, &headers, &team, &q, "plan").await? {
+        Ok(res) => return Ok(res),
+        Err(key) => key,
+    };
     let (data, weeks) = compute(&state, team, &q, span, None).await?;
     save_snapshot(&state, team_id, version, span, &weeks).await;
     let athletes = athlete_plans(
@@ -520,15 +552,14 @@ async fn team_summary(
     QueryParams(q): QueryParams<PlanParams>,
 ) -> Result<Response> {
     let team = visible_team(&state, &caller, team_id).await?;
-    let span = span_of(&q, &team)?;
-    let version = audit::team_version(&state.db.read, team_id).await?;
-    let etag = plan_etag(version, span, &q.variant("summary"));
-    if let Some(res) = not_modified(&headers, &etag)? {
-        return Ok(res);
-    }
-    if let Some(res) = cached(&state, &etag) {
-        return Ok(res);
-    }
+    let PlanKey {
+        span,
+        version,
+        etag,
+    } = match prepare(&state, &headers, &team, &q, "summary").await? {
+        Ok(res) => return Ok(res),
+        Err(key) => key,
+    };
     let (_, weeks) = compute(&state, team, &q, span, None).await?;
     save_snapshot(&state, team_id, version, span, &weeks).await;
     let body = TeamSummary {
@@ -823,15 +854,11 @@ async fn athlete_plan(
 ) -> Result<Response> {
     let athlete = visible_athlete(&state, &caller, athlete_id).await?;
     let team = visible_team(&state, &caller, athlete.team_id).await?;
-    let span = span_of(&q, &team)?;
-    let version = audit::team_version(&state.db.read, team.id).await?;
-    let etag = plan_etag(version, span, &q.variant(&format!("athlete-{athlete_id}")));
-    if let Some(res) = not_modified(&headers, &etag)? {
-        return Ok(res);
-    }
-    if let Some(res) = cached(&state, &etag) {
-        return Ok(res);
-    }
+    let variant = format!("athlete-{athlete_id}");
+    let PlanKey { span, etag, .. } = match prepare(&state, &headers, &team, &q, &variant).await? {
+        Ok(res) => return Ok(res),
+        Err(key) => key,
+    };
     let (data, weeks) = compute(&state, team, &q, span, Some(athlete_id)).await?;
     let Some(plan) = athlete_plans(
         &state,

@@ -77,6 +77,42 @@ pub struct AuditEntry {
     pub after: Option<Value>,
 }
 
+struct AuditRow {
+    seq: i64,
+    occurred_at: String,
+    token_id: Option<String>,
+    team_id: Option<String>,
+    action: String,
+    entity_type: String,
+    entity_id: String,
+    before_json: Option<String>,
+    after_json: Option<String>,
+}
+
+impl AuditRow {
+    fn into_entry(self) -> Result<AuditEntry, sqlx::Error> {
+        Ok(AuditEntry {
+            seq: self.seq,
+            occurred_at: super::parse_instant(&self.occurred_at)?,
+            token_id: self.token_id.as_deref().map(super::uuid).transpose()?,
+            team_id: self.team_id.as_deref().map(super::uuid).transpose()?,
+            action: self.action,
+            entity_type: self.entity_type,
+            entity_id: self.entity_id,
+            before: self
+                .before_json
+                .as_deref()
+                .map(super::from_json)
+                .transpose()?,
+            after: self
+                .after_json
+                .as_deref()
+                .map(super::from_json)
+                .transpose()?,
+        })
+    }
+}
+
 /// Entries after `after_seq`, oldest first; `team` limits to one team.
 #[instrument(skip_all)]
 pub async fn list(
@@ -87,7 +123,8 @@ pub async fn list(
 ) -> Result<Vec<AuditEntry>, sqlx::Error> {
     let team = team.map(|t| t.to_string());
     let limit = i64::from(limit);
-    let rows = sqlx::query!(
+    sqlx::query_as!(
+        AuditRow,
         r#"SELECT seq as "seq!", occurred_at, token_id, team_id, action, entity_type, entity_id, before_json, after_json
            FROM audit_log
            WHERE seq > ? AND (? IS NULL OR team_id = ?)
@@ -98,22 +135,10 @@ pub async fn list(
         limit
     )
     .fetch_all(pool)
-    .await?;
-    rows.into_iter()
-        .map(|r| {
-            Ok(AuditEntry {
-                seq: r.seq,
-                occurred_at: super::parse_instant(&r.occurred_at)?,
-                token_id: r.token_id.as_deref().map(super::uuid).transpose()?,
-                team_id: r.team_id.as_deref().map(super::uuid).transpose()?,
-                action: r.action,
-                entity_type: r.entity_type,
-                entity_id: r.entity_id,
-                before: r.before_json.as_deref().map(super::from_json).transpose()?,
-                after: r.after_json.as_deref().map(super::from_json).transpose()?,
-            })
-        })
-        .collect()
+    .await?
+    .into_iter()
+    .map(AuditRow::into_entry)
+    .collect()
 }
 
 /// The team's input version: the sequence number of its latest recorded
@@ -180,7 +205,8 @@ pub async fn about(
     pool: &sqlx::SqlitePool,
     athlete_id: &str,
 ) -> Result<Vec<AuditEntry>, sqlx::Error> {
-    let rows = sqlx::query!(
+    sqlx::query_as!(
+        AuditRow,
         r#"SELECT seq as "seq!", occurred_at, token_id, team_id, action, entity_type, entity_id, before_json, after_json
            FROM audit_log
            WHERE entity_id = ?1 OR entity_id LIKE ?1 || '/%' OR entity_id LIKE '%/' || ?1
@@ -189,20 +215,8 @@ pub async fn about(
         athlete_id
     )
     .fetch_all(pool)
-    .await?;
-    rows.into_iter()
-        .map(|r| {
-            Ok(AuditEntry {
-                seq: r.seq,
-                occurred_at: super::parse_instant(&r.occurred_at)?,
-                token_id: r.token_id.as_deref().map(super::uuid).transpose()?,
-                team_id: r.team_id.as_deref().map(super::uuid).transpose()?,
-                action: r.action,
-                entity_type: r.entity_type,
-                entity_id: r.entity_id,
-                before: r.before_json.as_deref().map(super::from_json).transpose()?,
-                after: r.after_json.as_deref().map(super::from_json).transpose()?,
-            })
-        })
-        .collect()
+    .await?
+    .into_iter()
+    .map(AuditRow::into_entry)
+    .collect()
 }
