@@ -499,6 +499,27 @@ pub async fn load(db: &Db, monday: NaiveDate) -> Result<String, sqlx::Error> {
         let created = sessions::import(db, DEMO, team.id, None, &week)
             .await?
             .created;
+        // The player on a body-mass reduction goal has pinned a low
+        // carbohydrate day before the match himself: the plan should flag it.
+        if squad.sex == Sex::Male {
+            let friday = monday + Days::new(4);
+            let pins = crate::engine::day_plan::DayPins {
+                carbohydrate_g_per_kg: Some(4.0),
+                protein_g_per_kg: None,
+                energy_kcal: None,
+            };
+            crate::store::planning::put_pin(
+                db,
+                DEMO,
+                team.id,
+                ids[13],
+                friday,
+                &Precondition::None,
+                &pins,
+                Some("Asked to cut carbohydrate the day before the match to make weight: review with him."),
+            )
+            .await?;
+        }
         // Match day: the first 11 start; two starters go off at 70 minutes,
         // five substitutes come on, the rest of the squad does not play, and
         // one injured player does rehab on the bike instead.

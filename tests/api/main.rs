@@ -12,6 +12,7 @@ mod malformed;
 mod openapi_doc;
 mod participation;
 mod plans;
+mod privacy;
 mod security;
 mod sessions;
 mod teams;

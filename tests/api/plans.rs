@@ -94,6 +94,16 @@ async fn the_demo_week_prepares_the_day_before_and_the_day_of_the_match() {
         for date in [day(4), day(5)] {
             let r = row(&s, starter, &date);
             let g = r["carbohydrate_g_per_kg"].as_f64().unwrap();
+            if r["carbohydrate_pinned"] == true {
+                // The demo's player who cut carbohydrate himself: flagged.
+                assert!(g < 6.0);
+                let flags = r["warnings"].as_array().unwrap();
+                assert!(
+                    flags.iter().any(|w| w == "pin_outside_published_range"),
+                    "{r}"
+                );
+                continue;
+            }
             // Team-sport practice: 6-8 g/kg on the day before and the day of a
             // match (expert group statement on nutrition in elite football,
             // 2021, from memory), unless a pin says otherwise.
