@@ -164,10 +164,10 @@ fn refine(doc: &mut Value) {
     if let Some(required) = create["required"].as_array_mut() {
         required.push("initial_body_mass".into());
     }
-    if let Some(props) = create["properties"].as_object_mut() {
-        if let Some(first) = props.get_mut("initial_body_mass") {
-            *first = serde_json::json!({"$ref": "#/components/schemas/InitialBodyMass"});
-        }
+    if let Some(props) = create["properties"].as_object_mut()
+        && let Some(first) = props.get_mut("initial_body_mass")
+    {
+        *first = serde_json::json!({"$ref": "#/components/schemas/InitialBodyMass"});
     }
     schemas["AthleteCreate"] = create;
     for (input, patch) in [
@@ -318,11 +318,11 @@ fn mark_local_date_times(schema: &mut Value) {
 }
 
 fn localise(prop: &mut Value) {
-    if prop["format"] == "date-time" {
-        if let Some(obj) = prop.as_object_mut() {
-            obj.remove("format");
-            obj.insert("pattern".into(), LOCAL_DATE_TIME.into());
-        }
+    if prop["format"] == "date-time"
+        && let Some(obj) = prop.as_object_mut()
+    {
+        obj.remove("format");
+        obj.insert("pattern".into(), LOCAL_DATE_TIME.into());
     }
     if prop["items"].is_object() {
         localise(&mut prop["items"]);
