@@ -30,7 +30,7 @@ pub struct Config {
     #[arg(long, env = "GLYCOWEEK_CORS_ORIGINS", value_delimiter = ',')]
     pub cors_origins: Vec<String>,
     /// Largest accepted request body in bytes.
-    #[arg(long, env = "GLYCOWEEK_BODY_LIMIT_BYTES", default_value_t = 1_048_576,
+    #[arg(long = "body-limit-bytes", value_name = "BYTES", env = "GLYCOWEEK_BODY_LIMIT_BYTES", default_value_t = 1_048_576,
           value_parser = clap::value_parser!(u64).range(1024..=67_108_864))]
     pub body_limit_bytes_raw: u64,
     /// Longest a request may take, in seconds.
@@ -47,7 +47,7 @@ pub struct Config {
     pub ceiling_endpoint: bool,
     /// Memory for computed plans, MiB (plans are keyed by their inputs'
     /// version, so a cached plan is never stale); 0 turns the cache off.
-    #[arg(long, env = "GLYCOWEEK_PLAN_CACHE_MIB", default_value_t = 128,
+    #[arg(long = "plan-cache-mib", value_name = "MIB", env = "GLYCOWEEK_PLAN_CACHE_MIB", default_value_t = 128,
           value_parser = clap::value_parser!(u64).range(0..=16384))]
     pub plan_cache_mib_raw: u64,
     #[arg(skip)]
