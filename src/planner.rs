@@ -144,7 +144,7 @@ pub fn profile_on(
 // ---------------------------------------------------------------------------
 // Week plans for a team or one athlete.
 
-use crate::engine::day_plan::PlanSettings;
+use crate::engine::day::plan::PlanSettings;
 use crate::engine::week::{
     BodyMassEntry, DatedPins, PlannedSession, WeekInput, WeekPlan, WeekThresholds, plan_week,
 };
@@ -176,7 +176,7 @@ pub struct AthleteWeek {
 /// The engine input for one athlete.
 pub fn week_input(
     data: &TeamData,
-    pins: &HashMap<(Uuid, NaiveDate), crate::engine::day_plan::DayPins>,
+    pins: &HashMap<(Uuid, NaiveDate), crate::engine::day::plan::DayPins>,
     athlete: &Athlete,
     options: &PlanOptions,
 ) -> Result<WeekInput, Vec<String>> {
@@ -232,12 +232,12 @@ pub fn week_input(
         .collect();
     athlete_pins.sort_by_key(|p| p.date);
     let start_glycogen = options.start_glycogen_fraction.map(|fraction| {
-        let capacity = crate::engine::glycogen::glycogen_capacity(
+        let capacity = crate::engine::glycogen::stores::glycogen_capacity(
             profile.sex,
             profile.body_mass_kg,
             profile.training_status,
         );
-        crate::engine::glycogen::GlycogenState {
+        crate::engine::glycogen::stores::GlycogenState {
             muscle_g: capacity.muscle_g * fraction,
             liver_g: capacity.liver_g * fraction.min(1.0),
         }
@@ -262,7 +262,7 @@ pub fn week_input(
 /// Plans every athlete in `athletes`, spread over the machine's cores.
 pub fn plan_athletes(
     data: &TeamData,
-    pins: &HashMap<(Uuid, NaiveDate), crate::engine::day_plan::DayPins>,
+    pins: &HashMap<(Uuid, NaiveDate), crate::engine::day::plan::DayPins>,
     athletes: &[Athlete],
     options: &PlanOptions,
 ) -> Vec<AthleteWeek> {

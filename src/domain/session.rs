@@ -4,7 +4,7 @@ use utoipa::ToSchema;
 use uuid::Uuid;
 
 use super::check_text;
-use crate::engine::intensity::validate_intensity;
+use crate::engine::physiology::intensity::validate_intensity;
 use crate::engine::profile::{Segment, SessionKind};
 use crate::engine::{InvalidInput, Issues};
 

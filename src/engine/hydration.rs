@@ -9,8 +9,8 @@
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
 
-use super::plan_notes::{Severity, Warning, WarningCode};
-use super::{InvalidInput, Issues};
+use crate::engine::day::notes::{Severity, Warning, WarningCode};
+use crate::engine::{InvalidInput, Issues};
 
 /// A weighed session: body mass before and after, fluid in and out.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, ToSchema)]

@@ -32,24 +32,13 @@
 //!   simulated from the glycogen carried from day to day, daily plans, an
 //!   hourly glycogen series and the warnings a dietitian acts on.
 
-pub mod athlete;
-pub mod catalogue;
-pub mod day_plan;
-pub mod day_targets;
-pub mod eating_occasions;
-pub mod energy;
-pub mod energy_availability;
-pub mod fuel_mix;
-pub mod gas_exchange;
+pub mod day;
+pub mod estimate;
 pub mod glycogen;
-pub mod glycogen_balance;
 pub mod hydration;
-pub mod intensity;
-pub mod plan_notes;
+pub mod physiology;
 pub mod profile;
-pub mod session;
-pub mod session_fuelling;
-pub mod session_work;
+pub mod sources;
 pub mod week;
 
 use serde::Serialize;

@@ -18,10 +18,10 @@ use super::sessions::visible_session;
 use crate::AppState;
 use crate::domain::session::{ParticipationMode, check_segments};
 use crate::engine::Issues;
-use crate::engine::catalogue::{ACTIVITIES, Activity};
-use crate::engine::glycogen::GlycogenState;
+use crate::engine::glycogen::stores::GlycogenState;
+use crate::engine::physiology::catalogue::{ACTIVITIES, Activity};
+use crate::engine::physiology::session::{SessionFuel, simulate_session};
 use crate::engine::profile::{AthleteProfile, Segment};
-use crate::engine::session::{SessionFuel, simulate_session};
 use crate::error::{ApiError, Result};
 use crate::planner::{self, TeamData};
 

@@ -179,7 +179,7 @@ fn refine(doc: &mut Value) {
         schemas[patch] = patch_schema;
     }
     // Activities are the catalogue's keys.
-    let keys: Vec<Value> = crate::engine::catalogue::ACTIVITIES
+    let keys: Vec<Value> = crate::engine::physiology::catalogue::ACTIVITIES
         .iter()
         .map(|a| Value::from(a.key))
         .collect();

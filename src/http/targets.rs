@@ -19,7 +19,7 @@ use crate::AppState;
 use crate::domain::check_text;
 use crate::domain::session::check_date;
 use crate::engine::Issues;
-use crate::engine::day_plan::{DayInput, DayPins, DayPlan, PlanSettings, plan_day};
+use crate::engine::day::plan::{DayInput, DayPins, DayPlan, PlanSettings, plan_day};
 use crate::engine::hydration::{SweatRate, SweatRateInput, sweat_rate};
 use crate::error::{ApiError, Result};
 use crate::store::Write;

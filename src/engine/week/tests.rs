@@ -6,7 +6,7 @@ use chrono::{NaiveDate, NaiveTime, TimeDelta};
 use proptest::prelude::*;
 
 use super::*;
-use crate::engine::plan_notes::WarningCode;
+use crate::engine::day::notes::WarningCode;
 use crate::engine::profile::{Intensity, Sex, TrainingStatus, Vo2maxSource};
 
 fn monday() -> NaiveDate {
@@ -666,7 +666,8 @@ fn any_week() -> impl Strategy<Value = WeekInput> {
                 })
                 .collect();
             if let Some((muscle, liver)) = start {
-                let capacity = crate::engine::glycogen::glycogen_capacity(sex, mass, status);
+                let capacity =
+                    crate::engine::glycogen::stores::glycogen_capacity(sex, mass, status);
                 week.start_glycogen = Some(GlycogenState {
                     muscle_g: muscle * capacity.muscle_g,
                     liver_g: liver * capacity.liver_g,

@@ -27,11 +27,11 @@
 //! 2. **Plan the day** with [`plan_day`] (settings, pins and health flags
 //!    passed through): targets and eating occasions.
 //! 3. **Simulate the day** in steps of at most 15 minutes, split at every
-//!    eating occasion and session boundary ([`super::glycogen_balance`]):
+//!    eating occasion and session boundary ([`crate::engine::glycogen::balance`]):
 //!    intake is absorbed and refills the stores; the liver runs down at rest;
 //!    at each session's start the session is simulated again from the state
 //!    reached by then (so intake before it counts, and low stores shift the
-//!    fuel mix toward fat from the first minute, [`super::fuel_mix`]), and its
+//!    fuel mix toward fat from the first minute, [`crate::engine::physiology::fuel_mix`]), and its
 //!    muscle and liver use is drawn evenly over its clock time.
 //! 4. If a session's simulated carbohydrate differs from the forecast by more
 //!    than 5% (and 2 g), the day is planned again with the simulated sessions
@@ -62,23 +62,25 @@ use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
 use uuid::Uuid;
 
-use super::athlete::{Estimate, ResolvedAthlete, resolve_athlete};
-use super::day_plan::{DayInput, DayPins, DayPlan, HealthFlag, PlanSettings, plan_day};
-use super::eating_occasions::EatingOccasion;
-use super::energy_availability::EnergyAvailabilityBand;
-use super::glycogen::{GlycogenCapacity, GlycogenState};
-use super::glycogen_balance::{
+use crate::engine::day::energy_availability::EnergyAvailabilityBand;
+use crate::engine::day::notes::Severity;
+use crate::engine::day::occasions::EatingOccasion;
+use crate::engine::day::plan::{DayInput, DayPins, DayPlan, HealthFlag, PlanSettings, plan_day};
+use crate::engine::day::session_fuelling::{
+    SPEEDY_REFUELLING_GAP_HOURS, SPEEDY_REFUELLING_MAX_HOURS,
+};
+use crate::engine::day::session_work::{EventPreparation, SessionWork};
+use crate::engine::glycogen::balance::{
     CarbohydrateStores, GlycogenFlows, GlycogenModel, Interval, SessionDraw, advance,
 };
-use super::plan_notes::Severity;
-use super::profile::{AthleteProfile, GoalDirection, Segment, SessionKind};
-use super::session::{
+use crate::engine::glycogen::stores::{GlycogenCapacity, GlycogenState};
+use crate::engine::physiology::athlete::{Estimate, ResolvedAthlete, resolve_athlete};
+use crate::engine::physiology::session::{
     LOW_LIVER_GLYCOGEN_FRACTION, LOW_MUSCLE_GLYCOGEN_FRACTION, SessionFuel, simulate_session_for,
     validate_segments,
 };
-use super::session_fuelling::{SPEEDY_REFUELLING_GAP_HOURS, SPEEDY_REFUELLING_MAX_HOURS};
-use super::session_work::{EventPreparation, SessionWork};
-use super::{FieldIssue, InvalidInput, Issues};
+use crate::engine::profile::{AthleteProfile, GoalDirection, Segment, SessionKind};
+use crate::engine::{FieldIssue, InvalidInput, Issues};
 
 /// Longest span planned at once, days (inclusive of both ends).
 pub const MAX_SPAN_DAYS: i64 = 120;

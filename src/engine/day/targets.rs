@@ -18,11 +18,11 @@
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
 
-use super::plan_notes::THOMAS_2016;
-use super::profile::GoalDirection;
-use super::session_work::{
+use crate::engine::day::session_work::{
     RelativeDay, ResolvedPreparation, SessionRef, SessionWork, sorted, total,
 };
+use crate::engine::profile::GoalDirection;
+use crate::engine::sources::THOMAS_2016;
 
 /// A range in grams per kg body mass.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize, ToSchema)]
@@ -282,7 +282,7 @@ pub fn daily_carbohydrate(
                 .day_after_next
                 .iter()
                 .filter(|s| {
-                    super::session_work::add_hours(s.start, -upcoming.loading_hours)
+                    crate::engine::day::session_work::add_hours(s.start, -upcoming.loading_hours)
                         < upcoming.today_noon
                 })
                 .map(|s| (s, RelativeDay::DayAfterNext)),

@@ -5,9 +5,9 @@
 //! - [`simulate_session`]: the entry point from a profile; [`simulate_session_for`]
 //!   reuses an athlete resolved once (e.g. for a whole week).
 //! - The step loop, in steps of at most one minute aligned to whole minutes of
-//!   session time: VO2 of the segment ([`super::intensity`]) -> carbohydrate
-//!   share ([`super::fuel_mix`], with the muscle glycogen left so far) -> NPRQ
-//!   -> kcal per litre of O2 (Zuntz/Lusk, [`super::gas_exchange`]) -> energy,
+//!   session time: VO2 of the segment ([`crate::engine::physiology::intensity`]) -> carbohydrate
+//!   share ([`crate::engine::physiology::fuel_mix`], with the muscle glycogen left so far) -> NPRQ
+//!   -> kcal per litre of O2 (Zuntz/Lusk, [`crate::engine::physiology::gas_exchange`]) -> energy,
 //!   carbohydrate grams (4.18 kcal/g) and fat grams (9.46 kcal/g).
 //!   Carbohydrate is split between muscle glycogen and blood glucose by
 //!   intensity and time; blood glucose is charged to liver glycogen (ignoring
@@ -22,15 +22,17 @@
 use serde::Serialize;
 use utoipa::ToSchema;
 
-use super::athlete::{Estimate, ResolvedAthlete, resolve_athlete};
-use super::fuel_mix::{blood_glucose_share_of_carbohydrate, carbohydrate_share};
-use super::gas_exchange::{
+use crate::engine::glycogen::stores::{GlycogenCapacity, GlycogenState};
+use crate::engine::physiology::athlete::{Estimate, ResolvedAthlete, resolve_athlete};
+use crate::engine::physiology::fuel_mix::{
+    blood_glucose_share_of_carbohydrate, carbohydrate_share,
+};
+use crate::engine::physiology::gas_exchange::{
     CARBOHYDRATE_KCAL_PER_G, FAT_KCAL_PER_G, kcal_per_litre_oxygen_at_share,
 };
-use super::glycogen::{GlycogenCapacity, GlycogenState};
-use super::intensity::{OxygenUptake, convert_validated, validate_intensity};
-use super::profile::{AthleteProfile, Segment};
-use super::{InvalidInput, Issues};
+use crate::engine::physiology::intensity::{OxygenUptake, convert_validated, validate_intensity};
+use crate::engine::profile::{AthleteProfile, Segment};
+use crate::engine::{InvalidInput, Issues};
 
 /// Longest session the engine accepts, minutes.
 pub const MAX_SESSION_MINUTES: f64 = 600.0;
@@ -492,7 +494,7 @@ fn intensity_warnings(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::engine::athlete::tests::trained_profile;
+    use crate::engine::physiology::athlete::tests::trained_profile;
     use crate::engine::profile::{Intensity, Sex, TrainingStatus, Vo2maxSource};
     use proptest::prelude::*;
 
@@ -817,8 +819,12 @@ mod tests {
             (0.0f64..=1.0).prop_map(|fraction| Intensity::HeartRateReserve { fraction }),
             (0.0f64..=10.0).prop_map(|rating| Intensity::SessionRpe { rating }),
             (1.0f64..=23.0).prop_map(|mets| Intensity::Mets { mets }),
-            (0..crate::engine::catalogue::ACTIVITIES.len()).prop_map(|i| Intensity::Activity {
-                activity: crate::engine::catalogue::ACTIVITIES[i].key.to_owned()
+            (0..crate::engine::physiology::catalogue::ACTIVITIES.len()).prop_map(|i| {
+                Intensity::Activity {
+                    activity: crate::engine::physiology::catalogue::ACTIVITIES[i]
+                        .key
+                        .to_owned(),
+                }
             }),
             (4.0f64..=30.0, 0.0f64..=30.0).prop_map(|(speed_kmh, grade_percent)| {
                 Intensity::Running {

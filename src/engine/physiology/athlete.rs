@@ -12,28 +12,11 @@
 //!   status ([`default_vo2max`]).
 //! - HRmax by Tanaka et al. (2001) when not measured.
 
-use serde::Serialize;
-use utoipa::ToSchema;
+pub use crate::engine::estimate::Estimate;
 
-use super::glycogen::{GlycogenCapacity, glycogen_capacity};
-use super::profile::{AthleteProfile, Sex, TrainingStatus, Vo2maxSource};
-use super::{InvalidInput, Issues};
-
-/// A value the engine estimated rather than took as measured.
-#[derive(Debug, Clone, PartialEq, Serialize, ToSchema)]
-pub struct Estimate {
-    /// What was estimated, stable snake_case, e.g. `vo2max_ml_per_kg_min`.
-    pub quantity: &'static str,
-    /// Segment index when the estimate belongs to one segment.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub segment: Option<usize>,
-    pub value: f64,
-    pub unit: &'static str,
-    /// Stable snake_case code of the method, e.g. `tanaka_2001`.
-    pub method: &'static str,
-    /// The published source or the label `common practice` / `from memory`.
-    pub source: &'static str,
-}
+use crate::engine::glycogen::stores::{GlycogenCapacity, glycogen_capacity};
+use crate::engine::profile::{AthleteProfile, Sex, TrainingStatus, Vo2maxSource};
+use crate::engine::{InvalidInput, Issues};
 
 /// Physiology of one athlete, ready for the session model.
 #[derive(Debug, Clone, PartialEq)]

@@ -13,7 +13,7 @@
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
 
-use super::profile::{AthleteProfile, GoalDirection, Sex};
+use crate::engine::profile::{AthleteProfile, GoalDirection, Sex};
 
 /// kcal per kg of body-mass change. Common practice: the classic "3500 kcal
 /// per pound" rule (Wishnofsky 1958, from memory), about 7700 kcal/kg. Real

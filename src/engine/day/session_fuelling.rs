@@ -20,9 +20,12 @@ use chrono::NaiveDateTime;
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
 
-use super::day_targets::GramsPerKgRange;
-use super::plan_notes::{Severity, THOMAS_2016, Warning, WarningCode};
-use super::session_work::{RelativeDay, SessionRef, SessionWork, add_hours, hours_between, sorted};
+use crate::engine::day::notes::{Severity, Warning, WarningCode};
+use crate::engine::day::session_work::{
+    RelativeDay, SessionRef, SessionWork, add_hours, hours_between, sorted,
+};
+use crate::engine::day::targets::GramsPerKgRange;
+use crate::engine::sources::THOMAS_2016;
 
 /// Pre-session carbohydrate, 1-4 g/kg (Thomas et al. 2016) [confirmed].
 pub const PRE_SESSION_RANGE: GramsPerKgRange = GramsPerKgRange::new(1.0, 4.0);

@@ -9,8 +9,8 @@
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
 
-use super::Issues;
-use super::energy::FatFreeMass;
+use crate::engine::Issues;
+use crate::engine::day::energy::FatFreeMass;
 
 /// Band edges in kcal per kg fat-free mass per day.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize, ToSchema)]

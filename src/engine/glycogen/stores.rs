@@ -25,8 +25,8 @@
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
 
-use super::athlete::Estimate;
-use super::profile::{Sex, TrainingStatus};
+use crate::engine::estimate::Estimate;
+use crate::engine::profile::{Sex, TrainingStatus};
 
 /// Grams of glycogen per mmol glucosyl unit.
 pub const GRAMS_PER_MMOL_GLUCOSYL: f64 = 0.162;

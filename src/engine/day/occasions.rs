@@ -3,7 +3,7 @@
 //! How the timeline is built:
 //! 1. Session occasions first: the pre-session meal, carbohydrate during the
 //!    session, and after it either hourly speedy-refuelling feeds or one
-//!    recovery occasion (see [`super::session_fuelling`]).
+//!    recovery occasion (see [`crate::engine::day::session_fuelling`]).
 //! 2. Meals (breakfast, lunch, dinner, evening snack) at the configured
 //!    times. A meal that would fall less than 2 h before a session or during
 //!    it moves to the nearer side: 2 h before the start, or the session's
@@ -29,11 +29,11 @@ use chrono::{NaiveDate, NaiveDateTime, NaiveTime};
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
 
-use super::Issues;
-use super::day_targets::{KCAL_PER_G_CARBOHYDRATE, KCAL_PER_G_FAT, KCAL_PER_G_PROTEIN};
-use super::plan_notes::{Severity, Warning, WarningCode};
-use super::session_fuelling::{AfterGuidance, SessionFuelling, pre_session_g_per_kg};
-use super::session_work::{SessionRef, SessionWork, add_hours, hours_between, sorted};
+use crate::engine::Issues;
+use crate::engine::day::notes::{Severity, Warning, WarningCode};
+use crate::engine::day::session_fuelling::{AfterGuidance, SessionFuelling, pre_session_g_per_kg};
+use crate::engine::day::session_work::{SessionRef, SessionWork, add_hours, hours_between, sorted};
+use crate::engine::day::targets::{KCAL_PER_G_CARBOHYDRATE, KCAL_PER_G_FAT, KCAL_PER_G_PROTEIN};
 
 /// What an eating occasion is for.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, ToSchema)]

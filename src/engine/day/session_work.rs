@@ -12,8 +12,8 @@ use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
 use uuid::Uuid;
 
-use super::Issues;
-use super::profile::SessionKind;
+use crate::engine::Issues;
+use crate::engine::profile::SessionKind;
 
 /// How the days before a competition are fuelled.
 #[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize, Deserialize, ToSchema)]

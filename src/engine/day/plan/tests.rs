@@ -7,9 +7,9 @@ use chrono::{NaiveDate, NaiveDateTime};
 use proptest::prelude::*;
 
 use super::*;
-use crate::engine::eating_occasions::OccasionKind;
+use crate::engine::day::occasions::OccasionKind;
+use crate::engine::day::session_fuelling::DuringGuidance;
 use crate::engine::profile::{SessionKind, TrainingStatus};
-use crate::engine::session_fuelling::DuringGuidance;
 
 const DATE: (i32, u32, u32) = (2026, 3, 14);
 

@@ -15,30 +15,29 @@ use chrono::{NaiveDate, NaiveTime, TimeDelta};
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
 
-use super::day_targets::{
-    CarbohydrateRule, DayLoad, FAT_MIN_SHARE, FAT_USUAL_MAX_SHARE, GramsPerKgRange,
-    KCAL_PER_G_CARBOHYDRATE, KCAL_PER_G_FAT, KCAL_PER_G_PROTEIN, LoadBand, PROTEIN_RANGE, Upcoming,
-    classify_day, daily_carbohydrate, daily_protein, fat_for_energy,
-};
-use super::eating_occasions::{DayTotals, EatingOccasion, MealTimes, plan_eating_occasions};
-use super::energy::{
+use crate::engine::day::energy::{
     DefaultBodyFat, FatFreeMassSource, GoalAdjustment, KCAL_PER_KG_BODY_MASS, RestingMetabolicRate,
     RestingMetabolicRateChoice, RestingMetabolicRateMethod, fat_free_mass, goal_adjustment,
     resting_metabolic_rate,
 };
-use super::energy_availability::{
+use crate::engine::day::energy_availability::{
     EnergyAvailability, EnergyAvailabilityBand, EnergyAvailabilityThresholds, ExerciseEnergyBasis,
     classify, energy_availability, intake_for,
 };
-use super::plan_notes::{
-    Explanation, Severity, THOMAS_2016, TargetRule, Topic, Warning, WarningCode,
-};
-use super::profile::{AthleteProfile, GoalDirection, Sex};
-use super::session_fuelling::{
+use crate::engine::day::notes::{Explanation, Severity, TargetRule, Topic, Warning, WarningCode};
+use crate::engine::day::occasions::{DayTotals, EatingOccasion, MealTimes, plan_eating_occasions};
+use crate::engine::day::session_fuelling::{
     AfterGuidance, DayClock, PROTEIN_PER_OCCASION_G_PER_KG, SessionFuelling, plan_session_fuelling,
 };
-use super::session_work::{EventPreparation, SessionWork, total, validate_sessions};
-use super::{InvalidInput, Issues};
+use crate::engine::day::session_work::{EventPreparation, SessionWork, total, validate_sessions};
+use crate::engine::day::targets::{
+    CarbohydrateRule, DayLoad, FAT_MIN_SHARE, FAT_USUAL_MAX_SHARE, GramsPerKgRange,
+    KCAL_PER_G_CARBOHYDRATE, KCAL_PER_G_FAT, KCAL_PER_G_PROTEIN, LoadBand, PROTEIN_RANGE, Upcoming,
+    classify_day, daily_carbohydrate, daily_protein, fat_for_energy,
+};
+use crate::engine::profile::{AthleteProfile, GoalDirection, Sex};
+use crate::engine::sources::THOMAS_2016;
+use crate::engine::{InvalidInput, Issues};
 
 /// Health conditions that the adult-athlete targets do not cover.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, ToSchema)]

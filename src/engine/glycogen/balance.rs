@@ -1,10 +1,10 @@
 //! Glycogen between sessions: how eaten carbohydrate refills muscle and liver
 //! glycogen, and how the liver runs down at rest. Every figure is an estimate.
 //!
-//! The week planner ([`super::week`]) walks one athlete's days in short
+//! The week planner ([`crate::engine::week`]) walks one athlete's days in short
 //! intervals (at most [`GlycogenModel::step_minutes`], split at every meal and
 //! session boundary) and calls [`advance`] for each. Sessions themselves are
-//! simulated by [`super::session`]; their muscle and liver use is passed in
+//! simulated by [`crate::engine::physiology::session`]; their muscle and liver use is passed in
 //! here as a constant draw spread over the session's clock time.
 //!
 //! ## The model, per interval
@@ -44,7 +44,7 @@
 //!      1.0-1.2 g carbohydrate per kg per hour early after exercise is
 //!      confirmed (Ivy 2004; Alghannam et al. 2018, Nutrients 10:253); that delaying intake by 2 h roughly halves the rate is
 //!      Ivy et al. (1988, J Appl Physiol 64:1480), `from memory`. The ceiling
-//!      applies to the whole-body muscle mass of [`super::glycogen`] and is off
+//!      applies to the whole-body muscle mass of [`crate::engine::glycogen::stores`] and is off
 //!      while a session runs.
 //!    - liver: 0.1 g per kg body mass per hour (7 g/h for 70 kg), a
 //!      calibration of ours: the liver refills within several hours of
@@ -63,7 +63,7 @@
 //! carbohydrate a day restored muscle glycogen within 24 h after strenuous
 //! running, about 190 g did not) and the position stand's "about 24 h with
 //! adequate intake" (`common practice`). The tests in
-//! [`super::week`] check both.
+//! [`crate::engine::week`] check both.
 //!
 //! Limits: whole-body stores only (the working muscles empty faster than the
 //! whole-body figure suggests); no fed/fasted effect on the session's fuel
@@ -73,7 +73,7 @@
 use serde::Serialize;
 use utoipa::ToSchema;
 
-use super::glycogen::GRAMS_PER_MMOL_GLUCOSYL;
+use crate::engine::glycogen::stores::GRAMS_PER_MMOL_GLUCOSYL;
 
 /// Parameters of the glycogen balance, with the values the planner uses.
 /// Echoed in every week plan so a reader sees what the numbers rest on.

@@ -78,8 +78,8 @@
 //! along the same slow curve `r(t)` with `x = t / 180 min` (10% of the way at
 //! 90 minutes, 25% at three hours, 32% at four; our calibration).
 
-use super::intensity::interpolate_points;
-use super::profile::TrainingStatus;
+use crate::engine::physiology::intensity::interpolate_points;
+use crate::engine::profile::TrainingStatus;
 
 /// Anchor points (fraction of VO2max, carbohydrate share) of the baseline curve.
 pub fn baseline_anchors(status: TrainingStatus) -> &'static [(f64, f64)] {
@@ -195,7 +195,7 @@ pub fn blood_glucose_share_of_carbohydrate(fraction_vo2max: f64, elapsed_minutes
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::engine::gas_exchange::{FAT_KCAL_PER_G, kcal_per_litre_oxygen_at_share};
+    use crate::engine::physiology::gas_exchange::{FAT_KCAL_PER_G, kcal_per_litre_oxygen_at_share};
     use proptest::prelude::*;
 
     const STATUSES: [TrainingStatus; 3] = [

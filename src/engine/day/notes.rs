@@ -6,8 +6,8 @@ use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
 use uuid::Uuid;
 
-use super::day_targets::{GramsPerKgRange, LoadBand};
-use super::session_work::SessionRef;
+use crate::engine::day::session_work::SessionRef;
+use crate::engine::day::targets::{GramsPerKgRange, LoadBand};
 
 /// How much a warning matters.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, ToSchema)]
@@ -214,5 +214,3 @@ impl Explanation {
         self
     }
 }
-
-pub(crate) const THOMAS_2016: &str = "Thomas, Erdman & Burke (2016), Nutrition and Athletic Performance, J Acad Nutr Diet 116:501 / Med Sci Sports Exerc 48:543";

@@ -25,10 +25,10 @@
 //!   grade fraction), leg cycling `10.8 W / kg + 7`. The equations are for
 //!   level and uphill ground, so downhill grades are refused.
 
-use super::athlete::{RESTING_VO2_ML_PER_KG_MIN, ResolvedAthlete};
-use super::catalogue::activity_by_key;
-use super::profile::Intensity;
-use super::{InvalidInput, Issues};
+use crate::engine::physiology::athlete::{RESTING_VO2_ML_PER_KG_MIN, ResolvedAthlete};
+use crate::engine::physiology::catalogue::activity_by_key;
+use crate::engine::profile::Intensity;
+use crate::engine::{InvalidInput, Issues};
 
 /// Oxygen uptake of a segment for one athlete (an estimate).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -272,8 +272,8 @@ pub(crate) fn convert_validated(athlete: &ResolvedAthlete, intensity: &Intensity
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::engine::athlete::resolve_athlete;
-    use crate::engine::athlete::tests::trained_profile;
+    use crate::engine::physiology::athlete::resolve_athlete;
+    use crate::engine::physiology::athlete::tests::trained_profile;
 
     fn athlete() -> ResolvedAthlete {
         resolve_athlete(&trained_profile()).unwrap()
