@@ -20,6 +20,7 @@ pub fn squad_inputs(athletes: usize, weeks: u64) -> Vec<WeekInput> {
         .flat_map(|w| demo::senior_week(monday + Days::new(w * 7)))
         .filter(|s| s.local_date <= to + Days::new(2))
         .map(|s| PlannedSession {
+            prepared_segments: None,
             session_id: None,
             title: s.title,
             kind: s.kind,
@@ -40,8 +41,10 @@ pub fn squad_inputs(athletes: usize, weeks: u64) -> Vec<WeekInput> {
                 .as_ref()
                 .map_or(75.0, |m| m.body_mass_kg);
             WeekInput {
+                carry_from: None,
                 athlete_id: None,
                 profile: AthleteProfile {
+                    team_sport_work_factor: None,
                     sex: a.sex,
                     age_years: age_years(a.date_of_birth, monday),
                     height_cm: a.height_cm,

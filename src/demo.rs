@@ -503,7 +503,7 @@ pub async fn load(db: &Db, monday: NaiveDate) -> Result<String, sqlx::Error> {
         // carbohydrate day before the match himself: the plan should flag it.
         if squad.sex == Sex::Male {
             let friday = monday + Days::new(4);
-            let pins = crate::engine::day::plan::DayPins {
+            let pins = crate::engine::day::settings::DayPins {
                 carbohydrate_g_per_kg: Some(4.0),
                 protein_g_per_kg: None,
                 energy_kcal: None,

@@ -5,13 +5,13 @@
 
 use std::collections::HashMap;
 
-use chrono::NaiveDate;
+use chrono::{Datelike, NaiveDate};
 use uuid::Uuid;
 
 use crate::domain::athlete::{Athlete, AthleteStatus, age_years};
 use crate::domain::session::{Participation, ParticipationMode, Session};
 use crate::domain::team::Team;
-use crate::engine::profile::{AthleteProfile, Segment};
+use crate::engine::profile::{AthleteProfile, Segment, SessionKind};
 use crate::store::{Db, athletes, sessions};
 
 /// Cautions carried by every response that contains estimates.
@@ -136,6 +136,7 @@ pub fn profile_on(
             training_status: athlete.training_status,
             goal: athlete.goal,
             goal_rate_kg_per_week: athlete.goal_rate_kg_per_week,
+            team_sport_work_factor: None,
         },
         note,
     ))
@@ -144,15 +145,26 @@ pub fn profile_on(
 // ---------------------------------------------------------------------------
 // Week plans for a team or one athlete.
 
-use crate::engine::day::plan::PlanSettings;
+use crate::engine::day::settings::PlanSettings;
 use crate::engine::week::{
     BodyMassEntry, DatedPins, PlannedSession, WeekInput, WeekPlan, WeekThresholds, plan_week,
 };
 
-/// Days loaded beyond the span: the day before (overnight gaps) and two
-/// after (next-day preparation and carbohydrate loading).
-pub const LOOK_BEHIND_DAYS: u64 = 1;
+/// Days loaded before the span: the carry-over days (from the Monday a week
+/// before the span's first week, see [`carry_from`]) and the day before them.
+pub const LOOK_BEHIND_DAYS: u64 = 14;
+/// Days loaded after the span: next-day preparation and carbohydrate loading.
 pub const LOOK_AHEAD_DAYS: u64 = 2;
+
+/// Where a plan's glycogen simulation starts: at normal stores on the Monday
+/// one week before the Monday of `from`'s week. Every span that starts in the
+/// same week therefore reads the same day the same way, and the week before
+/// carries its sessions and targets into the first day (stores converge in
+/// a few days whatever the start, so earlier weeks change little).
+pub fn carry_from(from: NaiveDate) -> NaiveDate {
+    let monday = from - chrono::Days::new(u64::from(from.weekday().num_days_from_monday()));
+    monday - chrono::Days::new(7)
+}
 
 /// Options of one plan request.
 #[derive(Debug, Clone)]
@@ -176,7 +188,7 @@ pub struct AthleteWeek {
 /// The engine input for one athlete.
 pub fn week_input(
     data: &TeamData,
-    pins: &HashMap<(Uuid, NaiveDate), crate::engine::day::plan::DayPins>,
+    pins: &HashMap<(Uuid, NaiveDate), crate::engine::day::settings::DayPins>,
     athlete: &Athlete,
     options: &PlanOptions,
 ) -> Result<WeekInput, Vec<String>> {
@@ -185,29 +197,46 @@ pub fn week_input(
         .get(&athlete.id)
         .map(Vec::as_slice)
         .unwrap_or(&[]);
-    let (profile, note) = profile_on(athlete, readings, options.span.0).map_err(|e| vec![e])?;
+    let (mut profile, note) = profile_on(athlete, readings, options.span.0).map_err(|e| vec![e])?;
+    profile.team_sport_work_factor = options
+        .settings
+        .team_sport_work_factor(athlete.position_group.as_deref());
     // Travel is planned by coaches but is not training: its small energy
     // cost sits inside the non-exercise activity factor, and it neither sets
     // the day's load band nor needs refuelling around it.
     let sessions = data
         .sessions
         .iter()
-        .filter(|session| session.kind != crate::engine::profile::SessionKind::Travel)
+        .filter(|session| session.kind != SessionKind::Travel)
         .filter_map(|session| {
             let exception = data.participation.get(&(session.id, athlete.id));
             let segments = segments_for(session, exception)?;
-            let partial = exception.is_some();
+            let mode = exception.map(|p| p.mode);
+            let replaced = mode == Some(ParticipationMode::Replaced);
+            // A replaced session (rehab instead of the match) is the athlete's
+            // own work: no match rules, not a key session.
+            let kind = match (replaced, session.kind) {
+                (true, SessionKind::Match) => SessionKind::Training,
+                (_, kind) => kind,
+            };
+            // A match is prepared as the whole match for every selected
+            // player; the minutes played (once recorded) drive glycogen and
+            // the days after.
+            let prepared_segments = (mode == Some(ParticipationMode::Shortened)
+                && session.kind == SessionKind::Match)
+                .then(|| session.segments.clone());
             Some(PlannedSession {
                 session_id: Some(session.id),
                 title: session.title.clone(),
-                kind: session.kind,
+                kind,
                 date: session.local_date,
                 start_time: session.start_time,
                 segments,
-                clock_minutes: partial.then_some(session.total_minutes),
-                key_session: session.key_session,
+                prepared_segments,
+                clock_minutes: exception.is_some().then_some(session.total_minutes),
+                key_session: session.key_session && !replaced,
                 train_low: session.train_low,
-                carbohydrate_loading: session.carbohydrate_loading,
+                carbohydrate_loading: session.carbohydrate_loading && !replaced,
             })
         })
         .collect();
@@ -253,6 +282,7 @@ pub fn week_input(
         settings: options.settings.clone(),
         pins: athlete_pins,
         health_flags: athlete.health_flags.clone(),
+        carry_from: start_glycogen.is_none().then(|| carry_from(options.span.0)),
         start_glycogen,
         thresholds: options.thresholds,
         include_session_fuel: options.include_session_fuel,
@@ -262,7 +292,7 @@ pub fn week_input(
 /// Plans every athlete in `athletes`, spread over the machine's cores.
 pub fn plan_athletes(
     data: &TeamData,
-    pins: &HashMap<(Uuid, NaiveDate), crate::engine::day::plan::DayPins>,
+    pins: &HashMap<(Uuid, NaiveDate), crate::engine::day::settings::DayPins>,
     athletes: &[Athlete],
     options: &PlanOptions,
 ) -> Vec<AthleteWeek> {

@@ -4,7 +4,7 @@ use utoipa::ToSchema;
 use uuid::Uuid;
 
 use super::check_text;
-pub use crate::engine::day::plan::HealthFlag;
+pub use crate::engine::day::settings::HealthFlag;
 use crate::engine::profile::{GoalDirection, Sex, TrainingStatus, Vo2maxSource};
 use crate::engine::{InvalidInput, Issues};
 

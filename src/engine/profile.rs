@@ -168,6 +168,12 @@ pub struct AthleteProfile {
     #[serde(default)]
     #[schema(minimum = 0.0, maximum = 2.0)]
     pub goal_rate_kg_per_week: Option<f64>,
+    /// Share of team-sport play this athlete's position covers, 0.2 to 1.5
+    /// (default 1.0; a goalkeeper about 0.5). The service fills it from the
+    /// position group and the team's plan settings.
+    #[serde(default)]
+    #[schema(minimum = 0.2, maximum = 1.5)]
+    pub team_sport_work_factor: Option<f64>,
 }
 
 fn default_goal() -> GoalDirection {

@@ -12,7 +12,7 @@ use uuid::Uuid;
 
 use super::audit::{self, Action, Actor, Entry};
 use super::{Db, Precondition, Write, from_json, now_text, parse_instant, to_json};
-use crate::engine::day::plan::{DayPins, PlanSettings};
+use crate::engine::day::settings::{DayPins, PlanSettings};
 use crate::engine::hydration::SweatRateInput;
 
 /// A dietitian's pinned targets for an athlete on a date.

@@ -13,11 +13,15 @@
 //! Depends on [`super::profile`] and [`super::sources`] only; the week planner
 //! feeds it session work computed by [`super::physiology`].
 
+pub mod budget;
+pub mod cautions;
 pub mod energy;
 pub mod energy_availability;
+pub mod explain;
 pub mod notes;
 pub mod occasions;
 pub mod plan;
 pub mod session_fuelling;
 pub mod session_work;
+pub mod settings;
 pub mod targets;

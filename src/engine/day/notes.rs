@@ -41,6 +41,9 @@ pub enum WarningCode {
     EnergyAvailabilityLow,
     /// Planned energy availability is between the low and adequate thresholds.
     EnergyAvailabilityReduced,
+    /// The energy deficit for body-mass loss was reduced because carbohydrate
+    /// (at its range's low end) and protein would leave under 20% fat.
+    DeficitLimitedByMacronutrients,
     /// Keeping fat at 20% of energy raised energy above the computed target.
     FatFloorRaisedEnergy,
     /// Fat is above 35% of energy (usual range 20-35%).
@@ -118,12 +121,14 @@ pub enum Topic {
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, ToSchema)]
 #[serde(rename_all = "snake_case")]
 pub enum TargetRule {
-    /// Day classified into a load band by the minutes and intensity of its work.
+    /// The day's fuel demand (work, next-day key work, glycogen to restore) and its band.
     LoadBandClassification,
     /// No sessions: low end of the light band.
     RestDay,
-    /// Carbohydrate positioned inside the load band by the day's fuel demand.
+    /// Carbohydrate from the day's fuel demand by the work curve.
     LoadBand,
+    /// Protein or carbohydrate raised so that fat stays at or under 35% of energy.
+    EnergyFill,
     /// Team-sport match today: 6-8 g/kg.
     TeamSportMatchDay,
     /// Team-sport match tomorrow: 6-8 g/kg.

@@ -3,146 +3,41 @@
 //! fuelling around each session, eating occasions, explanations, warnings
 //! and cautions.
 //!
-//! Order of work: validate everything (all field issues at once); resting
-//! metabolic rate and fat-free mass; energy (RMR x non-exercise activity
-//! factor + net session energy +/- the goal, never pushed into low energy
-//! availability by the goal); load band and carbohydrate; protein; fat as
-//! the remainder (at least 20%); energy availability; dietitian pins
-//! (kept as pinned, computed value beside them); session fuelling; eating
-//! occasions; warnings and cautions.
+//! Order of work: validate everything (all field issues at once); fat-free
+//! mass; the energy budget ([`super::budget`]: non-exercise energy for the
+//! minutes outside sessions + gross session energy +/- the goal, with the
+//! energy-availability floors); the day's fuel demand and carbohydrate
+//! ([`super::targets`]); protein; the macronutrient fit (fat inside 20-35% of
+//! energy, moving protein and carbohydrate within their ranges before
+//! energy); energy availability; dietitian pins (kept as pinned, computed
+//! value beside them); session fuelling; eating occasions; warnings,
+//! explanations ([`super::explain`]) and cautions.
 
 use chrono::{NaiveDate, NaiveTime, TimeDelta};
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
 
-use crate::engine::day::energy::{
-    DefaultBodyFat, FatFreeMassSource, GoalAdjustment, KCAL_PER_KG_BODY_MASS, RestingMetabolicRate,
-    RestingMetabolicRateChoice, RestingMetabolicRateMethod, fat_free_mass, goal_adjustment,
-    resting_metabolic_rate,
-};
+use crate::engine::day::budget::{EnergyBudget, energy_budget};
+use crate::engine::day::cautions::{loading_warnings, safety_notes, train_low_warnings};
+use crate::engine::day::energy::{RestingMetabolicRateChoice, fat_free_mass};
 use crate::engine::day::energy_availability::{
-    EnergyAvailability, EnergyAvailabilityBand, EnergyAvailabilityThresholds, ExerciseEnergyBasis,
-    classify, energy_availability, intake_for,
+    EnergyAvailability, EnergyAvailabilityBand, classify, energy_availability,
 };
-use crate::engine::day::notes::{Explanation, Severity, TargetRule, Topic, Warning, WarningCode};
-use crate::engine::day::occasions::{DayTotals, EatingOccasion, MealTimes, plan_eating_occasions};
+use crate::engine::day::explain::{ExplainInput, explanations};
+use crate::engine::day::notes::{Explanation, Severity, Warning, WarningCode};
+use crate::engine::day::occasions::{DayTotals, EatingOccasion, plan_eating_occasions};
 use crate::engine::day::session_fuelling::{
-    AfterGuidance, DayClock, PROTEIN_PER_OCCASION_G_PER_KG, SessionFuelling, plan_session_fuelling,
+    DayClock, PROTEIN_PER_OCCASION_G_PER_KG, SessionFuelling, plan_session_fuelling,
 };
-use crate::engine::day::session_work::{EventPreparation, SessionWork, total, validate_sessions};
+use crate::engine::day::session_work::{SessionWork, validate_sessions};
+use crate::engine::day::settings::{DayPins, HealthFlag, PlanSettings};
 use crate::engine::day::targets::{
     CarbohydrateRule, DayLoad, FAT_MIN_SHARE, FAT_USUAL_MAX_SHARE, GramsPerKgRange,
-    KCAL_PER_G_CARBOHYDRATE, KCAL_PER_G_FAT, KCAL_PER_G_PROTEIN, LoadBand, PROTEIN_RANGE, Upcoming,
-    classify_day, daily_carbohydrate, daily_protein, fat_for_energy,
+    KCAL_PER_G_CARBOHYDRATE, KCAL_PER_G_FAT, KCAL_PER_G_PROTEIN, MacroRequest, PROTEIN_RANGE,
+    Upcoming, classify_day, daily_carbohydrate, daily_protein, fit_fat,
 };
-use crate::engine::profile::{AthleteProfile, GoalDirection, Sex};
-use crate::engine::sources::THOMAS_2016;
+use crate::engine::profile::{AthleteProfile, Sex};
 use crate::engine::{InvalidInput, Issues};
-
-/// Health conditions that the adult-athlete targets do not cover.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, ToSchema)]
-#[serde(rename_all = "snake_case")]
-pub enum HealthFlag {
-    Pregnancy,
-    Diabetes,
-    OtherMedicalCondition,
-    DisorderedEatingHistory,
-}
-
-/// Settings with documented defaults; every field may be omitted.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, ToSchema)]
-#[serde(deny_unknown_fields)]
-pub struct PlanSettings {
-    /// Resting metabolic rate equation (default `automatic`).
-    #[serde(default)]
-    pub resting_metabolic_rate: RestingMetabolicRateChoice,
-    /// Multiplier of RMR for the non-exercise part of the day, 1.1 to 2.0
-    /// (default 1.5: common practice, inside the FAO/WHO/UNU 2004 range of
-    /// 1.40-1.69 for sedentary-to-light lifestyles, from memory).
-    #[serde(default = "default_activity_factor")]
-    pub non_exercise_activity_factor: f64,
-    /// Energy availability band edges (defaults 45 and 30 kcal/kg FFM/day).
-    #[serde(default)]
-    pub energy_availability: EnergyAvailabilityThresholds,
-    /// Which session energy counts as exercise energy for energy availability (default `gross`).
-    #[serde(default)]
-    pub exercise_energy_basis: ExerciseEnergyBasis,
-    /// Body fat % assumed when nothing is measured (defaults 12 men, 20 women).
-    #[serde(default)]
-    pub default_body_fat: DefaultBodyFat,
-    /// Fastest planned body-mass change, % of body mass per week, 0.1 to 1.5
-    /// (default 1.0: common practice "about 0.5-1% per week").
-    #[serde(default = "default_max_rate")]
-    pub max_body_mass_change_percent_per_week: f64,
-    /// Intensity from which a session counts as moderate, fraction of VO2max,
-    /// 0.3 to 0.7 (default 0.46: ACSM table, Garber et al. 2011, from memory).
-    #[serde(default = "default_moderate_fraction")]
-    pub moderate_intensity_fraction_vo2max: f64,
-    /// Everyday protein, g/kg/d, 1.2 to 2.0 (default 1.6, the middle of the range).
-    #[serde(default = "default_protein")]
-    pub protein_g_per_kg: f64,
-    /// Protein during planned body-mass loss, g/kg/d, 1.2 to 2.0 (default 2.0, the upper end).
-    #[serde(default = "default_protein_during_loss")]
-    pub protein_g_per_kg_during_loss: f64,
-    /// Hours of carbohydrate loading before an event, 36 to 48 (default 36).
-    #[serde(default = "default_loading_hours")]
-    pub carbohydrate_loading_hours: f64,
-    /// Waking, meal and bed times.
-    #[serde(default)]
-    pub meal_times: MealTimes,
-}
-
-fn default_activity_factor() -> f64 {
-    1.5
-}
-fn default_max_rate() -> f64 {
-    1.0
-}
-fn default_moderate_fraction() -> f64 {
-    0.46
-}
-fn default_protein() -> f64 {
-    1.6
-}
-fn default_protein_during_loss() -> f64 {
-    2.0
-}
-fn default_loading_hours() -> f64 {
-    36.0
-}
-
-impl Default for PlanSettings {
-    fn default() -> Self {
-        Self {
-            resting_metabolic_rate: RestingMetabolicRateChoice::default(),
-            non_exercise_activity_factor: default_activity_factor(),
-            energy_availability: EnergyAvailabilityThresholds::default(),
-            exercise_energy_basis: ExerciseEnergyBasis::default(),
-            default_body_fat: DefaultBodyFat::default(),
-            max_body_mass_change_percent_per_week: default_max_rate(),
-            moderate_intensity_fraction_vo2max: default_moderate_fraction(),
-            protein_g_per_kg: default_protein(),
-            protein_g_per_kg_during_loss: default_protein_during_loss(),
-            carbohydrate_loading_hours: default_loading_hours(),
-            meal_times: MealTimes::default(),
-        }
-    }
-}
-
-/// A dietitian's fixed values for the day. The plan keeps them exactly.
-#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize, ToSchema)]
-#[serde(deny_unknown_fields)]
-pub struct DayPins {
-    /// Daily carbohydrate, g/kg (0 to 20).
-    #[serde(default)]
-    pub carbohydrate_g_per_kg: Option<f64>,
-    /// Daily protein, g/kg (0.5 to 4).
-    #[serde(default)]
-    pub protein_g_per_kg: Option<f64>,
-    /// Daily energy intake, kcal (500 to 10000).
-    #[serde(default)]
-    pub energy_kcal: Option<f64>,
-}
 
 /// Everything needed to plan one athlete's day.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, ToSchema)]
@@ -167,6 +62,10 @@ pub struct DayInput {
     /// Settings; omitted fields take their documented defaults.
     #[serde(default)]
     pub settings: PlanSettings,
+    /// Working-muscle glycogen missing at the start of the day, g (estimate;
+    /// the week planner passes its simulated state, 0 when not known).
+    #[serde(default)]
+    pub glycogen_to_restore_g: f64,
     /// The dietitian's pinned values, if any.
     #[serde(default)]
     pub pins: DayPins,
@@ -184,6 +83,8 @@ pub struct CarbohydrateTarget {
     pub g: f64,
     /// What the engine computed, g/kg, shown beside a pin.
     pub computed_g_per_kg: f64,
+    /// What the day's work alone calls for, g/kg (before the energy fit).
+    pub from_work_g_per_kg: f64,
     /// True when the value is a dietitian's pin.
     pub pinned: bool,
     /// Rule that set the computed value.
@@ -227,18 +128,8 @@ pub struct EnergyTarget {
     pub computed_kcal: f64,
     /// True when the value is a dietitian's pin.
     pub pinned: bool,
-    /// Resting metabolic rate and the equation used.
-    pub resting_metabolic_rate: RestingMetabolicRate,
-    /// Multiplier of RMR for the non-exercise part of the day.
-    pub non_exercise_activity_factor: f64,
-    /// RMR x activity factor, kcal.
-    pub non_exercise_kcal: f64,
-    /// Net energy of the day's sessions, kcal.
-    pub exercise_kcal: f64,
-    /// Body-mass goal and its daily energy change.
-    pub goal: GoalAdjustment,
-    /// kcal of the goal deficit given back to keep energy availability out of the low band.
-    pub deficit_limited_by_kcal: f64,
+    /// Expenditure, goal and floors behind the computed value (estimates).
+    pub budget: EnergyBudget,
     /// kcal added to keep fat at 20% of energy.
     pub fat_floor_added_kcal: f64,
 }
@@ -285,42 +176,24 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
     let settings = &input.settings;
     let mass = profile.body_mass_kg;
     let mut warnings = Vec::new();
-    let mut explanations = Vec::new();
     let mut cautions = vec![
         "These targets are estimates for healthy adult athletes, computed from published equations and position statements. Apply them with a registered (sports) dietitian, and defer to a physician and to local rules.".to_string(),
     ];
 
-    // Energy.
+    // Energy budget.
     let ffm = fat_free_mass(profile, &settings.default_body_fat);
-    let rmr = resting_metabolic_rate(profile, settings.resting_metabolic_rate, &ffm);
-    let exercise_net = total(input.sessions.iter().map(|s| s.net_kcal));
-    let exercise_for_ea: f64 = match settings.exercise_energy_basis {
-        ExerciseEnergyBasis::Gross => total(input.sessions.iter().map(|s| s.gross_kcal)),
-        ExerciseEnergyBasis::Net => exercise_net,
-    };
-    let non_exercise_kcal = rmr.kcal_per_day * settings.non_exercise_activity_factor;
-    let maintenance = non_exercise_kcal + exercise_net;
-    let goal = goal_adjustment(profile, settings.max_body_mass_change_percent_per_week);
-    let mut computed_energy = maintenance + goal.kcal_per_day;
-    let mut deficit_limited_by = 0.0;
+    let budget = energy_budget(profile, &input.sessions, settings, &ffm);
     let thresholds = settings.energy_availability;
-    if goal.kcal_per_day < 0.0 {
-        // Rounded up so that the whole-kcal target cannot dip under the threshold.
-        let floor = intake_for(thresholds.low_below, exercise_for_ea, ffm.kg)
-            .ceil()
-            .min(maintenance);
-        if computed_energy < floor {
-            deficit_limited_by = floor - computed_energy;
-            computed_energy = floor;
-            warnings.push(Warning::new(
-                WarningCode::DeficitLimitedByEnergyAvailability,
-                Severity::Safety,
-                format!(
-                    "The body-mass loss deficit was reduced by {deficit_limited_by:.0} kcal so that planned energy availability does not fall below {:.0} kcal/kg FFM/day.",
-                    thresholds.low_below
-                ),
-            ));
-        }
+    let goal = &budget.goal;
+    if budget.deficit_limited_by_kcal > 0.0 {
+        warnings.push(Warning::new(
+            WarningCode::DeficitLimitedByEnergyAvailability,
+            Severity::Safety,
+            format!(
+                "The body-mass loss deficit was reduced by {:.0} kcal so that planned energy availability does not fall below {:.0} kcal/kg FFM/day.",
+                budget.deficit_limited_by_kcal, thresholds.low_below
+            ),
+        ));
     }
     if goal.capped {
         warnings.push(Warning::new(
@@ -335,12 +208,13 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
         ));
     }
 
-    // Carbohydrate.
+    // Carbohydrate from the day's fuel demand.
     let load = classify_day(
         &input.sessions,
         &input.next_day_sessions,
         mass,
         settings.moderate_intensity_fraction_vo2max,
+        input.glycogen_to_restore_g,
     );
     let upcoming = Upcoming {
         next_day: &input.next_day_sessions,
@@ -349,54 +223,76 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
         today_noon: input
             .date
             .and_time(NaiveTime::from_hms_opt(12, 0, 0).expect("noon")),
+        body_mass_kg: mass,
     };
     let decision = daily_carbohydrate(&input.sessions, &load, &upcoming);
-    let carbohydrate_g_per_kg = input
-        .pins
-        .carbohydrate_g_per_kg
-        .unwrap_or(decision.g_per_kg);
-    let carbohydrate_g = round_to(carbohydrate_g_per_kg * mass, 0.1);
-
-    // Protein.
     let computed_protein = daily_protein(
         profile.goal,
         settings.protein_g_per_kg,
         settings.protein_g_per_kg_during_loss,
     );
-    let protein_g_per_kg = input.pins.protein_g_per_kg.unwrap_or(computed_protein);
-    let protein_g = round_to(protein_g_per_kg * mass, 0.1);
 
-    // Fat and final energy.
-    let energy_pin = input.pins.energy_kcal;
-    let requested_energy = energy_pin.unwrap_or(computed_energy);
-    let fat_energy = fat_for_energy(
-        requested_energy,
-        carbohydrate_g,
-        protein_g,
+    // Macronutrients: fat fills the rest inside 20-35% of energy.
+    let pins = &input.pins;
+    let energy_pin = pins.energy_kcal;
+    let range = decision.range;
+    let request = |energy_kcal: f64, pinned: bool| MacroRequest {
+        energy_kcal,
+        carbohydrate_g: pins.carbohydrate_g_per_kg.unwrap_or(decision.g_per_kg) * mass,
+        carbohydrate_min_g: range.min.min(decision.g_per_kg) * mass,
+        carbohydrate_max_g: range.max.max(decision.g_per_kg) * mass,
+        protein_g: pins.protein_g_per_kg.unwrap_or(computed_protein) * mass,
+        protein_max_g: PROTEIN_RANGE.max.max(computed_protein) * mass,
+        carbohydrate_pinned: pins.carbohydrate_g_per_kg.is_some(),
+        protein_pinned: pins.protein_g_per_kg.is_some(),
+        energy_pinned: pinned,
+        hold_energy: goal.kcal_per_day < 0.0,
+    };
+    let fit = fit_fat(&request(
+        energy_pin.unwrap_or(budget.planned_kcal),
         energy_pin.is_some(),
-    );
-    // The engine's own figure, shown beside an energy pin.
-    let computed_kcal = if energy_pin.is_some() {
-        fat_for_energy(computed_energy, carbohydrate_g, protein_g, false).energy_kcal
-    } else {
-        fat_energy.energy_kcal
-    }
-    .round();
+    ));
+    // The engine's own figures, shown beside pins.
+    let own = fit_fat(&MacroRequest {
+        carbohydrate_g: decision.g_per_kg * mass,
+        protein_g: computed_protein * mass,
+        carbohydrate_pinned: false,
+        protein_pinned: false,
+        ..request(budget.planned_kcal, false)
+    });
+    let carbohydrate_g = round_to(fit.carbohydrate_g, 0.1);
+    let carbohydrate_g_per_kg = pins
+        .carbohydrate_g_per_kg
+        .unwrap_or(fit.carbohydrate_g / mass);
+    let protein_g = round_to(fit.protein_g, 0.1);
+    let protein_g_per_kg = pins.protein_g_per_kg.unwrap_or(fit.protein_g / mass);
     let energy_kcal = match energy_pin {
         Some(pin) => pin,
-        None => fat_energy.energy_kcal.round(),
+        None => fit.energy_kcal.round(),
     };
-    let fat_g = round_to(fat_energy.fat_g, 0.1);
+    let fat_g = round_to(fit.fat_g, 0.1);
     let fat_share = fat_g * KCAL_PER_G_FAT / energy_kcal;
-    if fat_energy.floor_added_kcal > 0.5 {
-        warnings.push(Warning::new(
-            WarningCode::FatFloorRaisedEnergy,
-            Severity::Notice,
-            format!(
-                "Carbohydrate and protein leave under 20% of energy for fat: energy was raised by {:.0} kcal to keep fat at 20%.",
-                fat_energy.floor_added_kcal
-            ),
-        ));
+    if fit.energy_added_kcal > 0.5 {
+        let (code, severity, text) = if goal.kcal_per_day < 0.0 {
+            (
+                WarningCode::DeficitLimitedByMacronutrients,
+                Severity::Warning,
+                format!(
+                    "The body-mass loss deficit was reduced by {:.0} kcal: with carbohydrate at the low end of its range for this day and protein at {:.1} g/kg, fat would fall under 20% of energy. Lower the carbohydrate (pin) or accept a slower loss.",
+                    fit.energy_added_kcal, protein_g_per_kg
+                ),
+            )
+        } else {
+            (
+                WarningCode::FatFloorRaisedEnergy,
+                Severity::Notice,
+                format!(
+                    "Carbohydrate and protein leave under 20% of energy for fat: energy was raised by {:.0} kcal to keep fat at 20%.",
+                    fit.energy_added_kcal
+                ),
+            )
+        };
+        warnings.push(Warning::new(code, severity, text));
     }
     if energy_pin.is_some() {
         let macro_kcal = carbohydrate_g * KCAL_PER_G_CARBOHYDRATE + protein_g * KCAL_PER_G_PROTEIN;
@@ -419,20 +315,26 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
             ));
         }
     }
-    if fat_share > FAT_USUAL_MAX_SHARE + 1e-6 {
+    if fat_share > FAT_USUAL_MAX_SHARE + 1e-3 {
         warnings.push(Warning::new(
             WarningCode::FatAboveUsualRange,
             Severity::Notice,
             format!(
-                "Fat is {:.0}% of energy, above the usual 20-35%: a low-carbohydrate day fills energy with fat; swap some for carbohydrate or protein if preferred.",
-                fat_share * 100.0
+                "Fat is {:.0}% of energy, above the usual 20-35%: {}",
+                fat_share * 100.0,
+                if pins.carbohydrate_g_per_kg.is_some() || energy_pin.is_some() {
+                    "the pinned values leave the energy to fat; swap some for carbohydrate or protein if preferred."
+                } else {
+                    "protein and carbohydrate are at the top of their ranges for this day."
+                }
             ),
         ));
     }
 
     // Energy availability.
+    let exercise_for_ea = budget.exercise_kcal_for_energy_availability;
     let ea_value = energy_availability(energy_kcal, exercise_for_ea, ffm.kg);
-    let ea_band = classify(ea_value, &thresholds);
+    let ea_band = classify(ea_value, &thresholds, profile.sex);
     match ea_band {
         EnergyAvailabilityBand::Low => {
             warnings.push(Warning::new(
@@ -448,12 +350,19 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
                 thresholds.low_below
             ));
         }
+        // The plan meets its own adequate edge unless a deficit or a pin moves it.
         EnergyAvailabilityBand::Reduced => warnings.push(Warning::new(
             WarningCode::EnergyAvailabilityReduced,
             Severity::Notice,
             format!(
-                "Planned energy availability is {ea_value:.1} kcal/kg FFM/day, between {:.0} and {:.0}.",
-                thresholds.low_below, thresholds.adequate_at_or_above
+                "Planned energy availability is {ea_value:.1} kcal/kg FFM/day, between {:.0} and {:.0}, because of {}.",
+                thresholds.low_below,
+                thresholds.adequate_for(profile.sex),
+                if energy_pin.is_some() {
+                    "the pinned energy"
+                } else {
+                    "the planned body-mass loss"
+                }
             ),
         )),
         EnergyAvailabilityBand::Adequate => {}
@@ -477,20 +386,19 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
     }
 
     // Pins: kept as given, checked against the published ranges.
-    let carbohydrate_range = decision.range;
-    if let Some(pin) = input.pins.carbohydrate_g_per_kg
-        && !carbohydrate_range.contains(pin)
+    if let Some(pin) = pins.carbohydrate_g_per_kg
+        && !range.contains(pin)
     {
         warnings.push(Warning::new(
             WarningCode::PinOutsidePublishedRange,
             Severity::Warning,
             format!(
                 "Pinned carbohydrate {pin:.2} g/kg is outside the {:.0}-{:.0} g/kg range for this day (computed {:.2} g/kg).",
-                carbohydrate_range.min, carbohydrate_range.max, decision.g_per_kg
+                range.min, range.max, own.carbohydrate_g / mass
             ),
         ));
     }
-    if let Some(pin) = input.pins.protein_g_per_kg
+    if let Some(pin) = pins.protein_g_per_kg
         && !PROTEIN_RANGE.contains(pin)
     {
         warnings.push(Warning::new(
@@ -559,209 +467,27 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
 
     train_low_warnings(input, &load, &mut warnings);
     loading_warnings(input, &mut warnings);
-    safety_notes(input, &goal, &mut warnings, &mut cautions);
+    safety_notes(input, goal, &mut warnings, &mut cautions);
 
-    // Explanations.
-    explanations.push(
-        Explanation::new(
-            Topic::LoadBand,
-            TargetRule::LoadBandClassification,
-            format!(
-                "{} load band: {:.0} min of work, {:.0} min at or above {:.0}% VO2max (moderate). Up to 75 min of moderate-or-higher work is about an hour (moderate), up to 4 h is high, more is very high; none is light.",
-                load.band.name(),
-                load.total_minutes,
-                load.moderate_or_higher_minutes,
-                settings.moderate_intensity_fraction_vo2max * 100.0
-            ),
-            format!("{THOMAS_2016}; minute edges are a common practice reading of the statement"),
-        )
-        .with_band(load.band)
-        .with_range(load.band_range)
-        .with_sessions(load.driving_sessions.clone()),
-    );
-    explanations.push(
-        Explanation::new(
-            Topic::Carbohydrate,
-            match decision.rule {
-                CarbohydrateRule::RestDay => TargetRule::RestDay,
-                CarbohydrateRule::LoadBand => TargetRule::LoadBand,
-                CarbohydrateRule::TeamSportMatchDay => TargetRule::TeamSportMatchDay,
-                CarbohydrateRule::TeamSportMatchEve => TargetRule::TeamSportMatchEve,
-                CarbohydrateRule::FuellingUp => TargetRule::FuellingUp,
-                CarbohydrateRule::CarbohydrateLoading => TargetRule::CarbohydrateLoading,
-            },
-            format!(
-                "{} = {:.0} g for {mass:.1} kg.",
-                decision.text,
-                decision.g_per_kg * mass
-            ),
-            decision.source.clone(),
-        )
-        .with_band(load.band)
-        .with_range(decision.range)
-        .with_sessions(decision.sessions.clone()),
-    );
-    if let Some(pin) = input.pins.carbohydrate_g_per_kg {
-        explanations.push(Explanation::new(
-            Topic::Carbohydrate,
-            TargetRule::DietitianPin,
-            format!(
-                "Carbohydrate pinned by the dietitian at {pin} g/kg ({carbohydrate_g:.1} g); the engine computed {:.2} g/kg.",
-                decision.g_per_kg
-            ),
-            "Dietitian's decision",
-        ));
-    }
-    explanations.push(Explanation::new(
-        Topic::Protein,
-        if input.pins.protein_g_per_kg.is_some() {
-            TargetRule::DietitianPin
-        } else {
-            TargetRule::ProteinRange
-        },
-        format!(
-            "Protein {protein_g_per_kg:.2} g/kg = {protein_g:.1} g (computed {computed_protein:.2} g/kg: {}), spread over the eating occasions at about 0.3 g/kg ({:.0} g) each.",
-            if profile.goal == GoalDirection::Reduce {
-                "upper end of 1.2-2.0 g/kg during planned body-mass loss"
-            } else {
-                "inside 1.2-2.0 g/kg"
-            },
-            PROTEIN_PER_OCCASION_G_PER_KG * mass
-        ),
-        format!("{THOMAS_2016}; 0.3 g/kg per occasion from memory"),
-    ).with_range(PROTEIN_RANGE));
-    explanations.push(Explanation::new(
-        Topic::Fat,
-        TargetRule::FatRemainder,
-        format!(
-            "Fat is the energy left after carbohydrate and protein: {fat_g:.1} g, {:.0}% of energy (not below 20%).",
-            fat_share * 100.0
-        ),
-        format!("{THOMAS_2016} (fat 20-35% of energy, from memory)"),
-    ));
-    let rmr_rule = match rmr.method {
-        RestingMetabolicRateMethod::Cunningham => TargetRule::Cunningham,
-        RestingMetabolicRateMethod::MifflinStJeor => TargetRule::MifflinStJeor,
-        RestingMetabolicRateMethod::RevisedHarrisBenedict => TargetRule::RevisedHarrisBenedict,
-    };
-    explanations.push(Explanation::new(
-        Topic::RestingMetabolicRate,
-        rmr_rule,
-        format!(
-            "Resting metabolic rate {:.0} kcal/d by {}{}.",
-            rmr.kcal_per_day,
-            match rmr.method {
-                RestingMetabolicRateMethod::Cunningham => "Cunningham, 500 + 22 x fat-free mass",
-                RestingMetabolicRateMethod::MifflinStJeor => "Mifflin-St Jeor",
-                RestingMetabolicRateMethod::RevisedHarrisBenedict => "revised Harris-Benedict",
-            },
-            if rmr.method == RestingMetabolicRateMethod::Cunningham {
-                format!(" ({:.1} kg)", ffm.kg)
-            } else if ffm.source == FatFreeMassSource::EstimatedFromDefaultBodyFat {
-                " (no measured body composition)".to_string()
-            } else {
-                String::new()
-            }
-        ),
-        rmr.method.source(),
-    ));
-    explanations.push(Explanation::new(
-        Topic::Energy,
-        if energy_pin.is_some() { TargetRule::DietitianPin } else { TargetRule::EnergyBalance },
-        format!(
-            "Energy {energy_kcal:.0} kcal (computed {:.0}): RMR {:.0} x {:.2} = {non_exercise_kcal:.0} kcal, + {exercise_net:.0} kcal net session energy, {:+.0} kcal for the goal ({:.2} kg/week at {KCAL_PER_KG_BODY_MASS:.0} kcal/kg){}{}.",
-            computed_kcal,
-            rmr.kcal_per_day,
-            settings.non_exercise_activity_factor,
-            goal.kcal_per_day,
-            goal.applied_kg_per_week,
-            if deficit_limited_by > 0.0 { format!(", {deficit_limited_by:.0} kcal given back to protect energy availability") } else { String::new() },
-            if fat_energy.floor_added_kcal > 0.5 { format!(", + {:.0} kcal to keep fat at 20%", fat_energy.floor_added_kcal) } else { String::new() },
-        ),
-        "Activity factor: common practice (FAO/WHO/UNU 2004 range, from memory); 7700 kcal/kg: common practice",
-    ));
-    explanations.push(Explanation::new(
-        Topic::EnergyAvailability,
-        TargetRule::EnergyAvailability,
-        format!(
-            "Energy availability ({energy_kcal:.0} - {exercise_for_ea:.0} kcal {} exercise energy) / {:.1} kg fat-free mass{} = {ea_value:.1} kcal/kg FFM/day: {}.",
-            match settings.exercise_energy_basis { ExerciseEnergyBasis::Gross => "gross", ExerciseEnergyBasis::Net => "net" },
-            ffm.kg,
-            if ffm.estimated { " (estimated)" } else { "" },
-            match ea_band { EnergyAvailabilityBand::Adequate => "adequate", EnergyAvailabilityBand::Reduced => "reduced", EnergyAvailabilityBand::Low => "low" }
-        ),
-        "Loucks & Thuma (2003), J Clin Endocrinol Metab 88:297 (from memory); Mountjoy et al. (2014, 2018, 2023), IOC consensus on relative energy deficiency in sport",
-    ));
-    for plan in &session_plans {
-        let (rule, text) = match plan.after.guidance {
-            AfterGuidance::SpeedyRefuelling => {
-                (TargetRule::SpeedyRefuelling, plan.after.note.clone())
-            }
-            AfterGuidance::RecoveryMeal => (TargetRule::RecoveryMeal, plan.after.note.clone()),
-        };
-        explanations.push(
-            Explanation::new(
-                Topic::SessionFuelling,
-                TargetRule::DuringSession,
-                format!(
-                    "'{}' ({:.0} min): {}",
-                    plan.session.title, plan.minutes, plan.during.note
-                ),
-                THOMAS_2016,
-            )
-            .with_sessions(vec![plan.session.clone()]),
-        );
-        if plan.before.applies || plan.before.withheld_for_train_low {
-            explanations.push(
-                Explanation::new(
-                    Topic::SessionFuelling,
-                    if plan.train_low {
-                        TargetRule::TrainLow
-                    } else {
-                        TargetRule::PreSession
-                    },
-                    format!("'{}': {}", plan.session.title, plan.before.note),
-                    THOMAS_2016,
-                )
-                .with_range(GramsPerKgRange::new(1.0, 4.0))
-                .with_sessions(vec![plan.session.clone()]),
-            );
-        }
-        explanations.push(
-            Explanation::new(
-                Topic::SessionFuelling,
-                rule,
-                format!("'{}': {text}", plan.session.title),
-                THOMAS_2016,
-            )
-            .with_sessions(vec![plan.session.clone()]),
-        );
-        if plan.train_low {
-            explanations.push(
-                Explanation::new(
-                    Topic::TrainLow,
-                    TargetRule::TrainLow,
-                    format!(
-                        "'{}' is a train-low session: no carbohydrate in the occasions before it or during it; the day's carbohydrate total is unchanged and moves to the occasions after it.",
-                        plan.session.title
-                    ),
-                    "Train low is a deliberate periodization choice by the dietitian (common practice)",
-                )
-                .with_sessions(vec![plan.session.clone()]),
-            );
-        }
-    }
-    explanations.push(Explanation::new(
-        Topic::EatingOccasions,
-        TargetRule::OccasionTimeline,
-        format!(
-            "{} eating occasions between {} and {}: session occasions get their planned amounts, the meals share the rest; no main meal in the 2 h before a session; totals add up to {carbohydrate_g:.1} g carbohydrate, {protein_g:.1} g protein, {fat_g:.1} g fat.",
-            occasions.len(),
-            times.wake.format("%H:%M"),
-            times.sleep.format("%H:%M")
-        ),
-        "Common practice",
-    ));
+    let explanations: Vec<Explanation> = explanations(&ExplainInput {
+        input,
+        load: &load,
+        decision: &decision,
+        budget: &budget,
+        fit: &fit,
+        ffm: &ffm,
+        carbohydrate_g,
+        protein_g,
+        protein_g_per_kg,
+        computed_protein,
+        fat_g,
+        fat_share,
+        energy_kcal,
+        ea_value,
+        ea_band,
+        session_plans: &session_plans,
+        occasion_count: occasions.len(),
+    });
 
     Ok(DayPlan {
         date: input.date,
@@ -769,16 +495,17 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
         carbohydrate: CarbohydrateTarget {
             g_per_kg: carbohydrate_g_per_kg,
             g: carbohydrate_g,
-            computed_g_per_kg: decision.g_per_kg,
-            pinned: input.pins.carbohydrate_g_per_kg.is_some(),
+            computed_g_per_kg: own.carbohydrate_g / mass,
+            from_work_g_per_kg: decision.g_per_kg,
+            pinned: pins.carbohydrate_g_per_kg.is_some(),
             rule: decision.rule,
             range_g_per_kg: decision.range,
         },
         protein: ProteinTarget {
             g_per_kg: protein_g_per_kg,
             g: protein_g,
-            computed_g_per_kg: computed_protein,
-            pinned: input.pins.protein_g_per_kg.is_some(),
+            computed_g_per_kg: own.protein_g / mass,
+            pinned: pins.protein_g_per_kg.is_some(),
             range_g_per_kg: PROTEIN_RANGE,
             per_occasion_g: round_to(PROTEIN_PER_OCCASION_G_PER_KG * mass, 0.1),
         },
@@ -788,15 +515,10 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
         },
         energy: EnergyTarget {
             kcal: energy_kcal,
-            computed_kcal,
+            computed_kcal: own.energy_kcal.round(),
             pinned: energy_pin.is_some(),
-            resting_metabolic_rate: rmr,
-            non_exercise_activity_factor: settings.non_exercise_activity_factor,
-            non_exercise_kcal,
-            exercise_kcal: exercise_net,
-            goal,
-            deficit_limited_by_kcal: deficit_limited_by,
-            fat_floor_added_kcal: fat_energy.floor_added_kcal,
+            fat_floor_added_kcal: fit.energy_added_kcal,
+            budget,
         },
         energy_availability: EnergyAvailability {
             kcal_per_kg_fat_free_mass: ea_value,
@@ -814,212 +536,6 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
         warnings,
         cautions,
     })
-}
-
-fn train_low_warnings(input: &DayInput, load: &DayLoad, warnings: &mut Vec<Warning>) {
-    for session in input.sessions.iter().filter(|s| s.train_low) {
-        let end = session.end();
-        let key_soon = input
-            .sessions
-            .iter()
-            .chain(&input.next_day_sessions)
-            .find(|k| k.is_key() && k.start >= end && k.start < end + TimeDelta::hours(24));
-        if let Some(key) = key_soon {
-            warnings.push(
-                Warning::new(
-                    WarningCode::TrainLowBeforeKeySession,
-                    Severity::Warning,
-                    format!(
-                        "Train-low session '{}' comes less than 24 h before the key session '{}': glycogen may not be restored in time.",
-                        session.title, key.title
-                    ),
-                )
-                .for_session(session.session_id),
-            );
-        }
-        if load.band >= LoadBand::High {
-            warnings.push(
-                Warning::new(
-                    WarningCode::TrainLowOnHighLoadDay,
-                    Severity::Warning,
-                    format!(
-                        "Train-low session '{}' is on a {} load day: quality of the other work may suffer.",
-                        session.title,
-                        load.band.name()
-                    ),
-                )
-                .for_session(session.session_id),
-            );
-        }
-    }
-}
-
-fn loading_warnings(input: &DayInput, warnings: &mut Vec<Warning>) {
-    let all = input
-        .sessions
-        .iter()
-        .chain(&input.next_day_sessions)
-        .chain(&input.day_after_next_sessions);
-    for session in all {
-        if session.event_preparation == EventPreparation::CarbohydrateLoading
-            && session.minutes <= 90.0
-        {
-            warnings.push(
-                Warning::new(
-                    WarningCode::CarbohydrateLoadingNotIndicated,
-                    Severity::Warning,
-                    format!(
-                        "Carbohydrate loading was asked for '{}' ({:.0} min) but it is for events over 90 min; general fuelling up is used instead.",
-                        session.title, session.minutes
-                    ),
-                )
-                .for_session(session.session_id),
-            );
-        }
-    }
-}
-
-fn safety_notes(
-    input: &DayInput,
-    goal: &GoalAdjustment,
-    warnings: &mut Vec<Warning>,
-    cautions: &mut Vec<String>,
-) {
-    if input.profile.age_years < 18.0 {
-        warnings.push(Warning::new(
-            WarningCode::UnderEighteen,
-            Severity::Safety,
-            format!(
-                "The athlete is {:.0}: these adult targets are not validated for under-18s.",
-                input.profile.age_years.floor()
-            ),
-        ));
-        cautions.push("The athlete is under 18: adult targets do not simply apply and growth needs energy. Plan with a registered dietitian and a physician, involve parents or guardians as local rules require, and do not plan body-mass loss without them.".into());
-    }
-    if input.profile.goal == GoalDirection::Reduce {
-        cautions.push(format!(
-            "Planned body-mass loss of {:.2} kg/week: keep it at or under about 0.5-1% of body mass per week (common practice), under a registered dietitian's supervision, and watch for signs of low energy availability.",
-            goal.applied_kg_per_week
-        ));
-    }
-    let mut flags = input.health_flags.clone();
-    flags.sort_by_key(|f| *f as u8);
-    flags.dedup();
-    for flag in flags {
-        let text = match flag {
-            HealthFlag::Pregnancy => {
-                "Pregnancy: these athlete targets do not apply; energy and nutrient needs must be set by a physician and a registered dietitian."
-            }
-            HealthFlag::Diabetes => {
-                "Diabetes: carbohydrate targets and timing interact with medication and blood glucose; plan them with the athlete's physician and diabetes team."
-            }
-            HealthFlag::OtherMedicalCondition => {
-                "A medical condition was declared: check these targets with the athlete's physician before use."
-            }
-            HealthFlag::DisorderedEatingHistory => {
-                "History of disordered eating: gram targets and body-mass goals can do harm; use them only under a registered dietitian and the clinical team, and consider not sharing numbers with the athlete."
-            }
-        };
-        warnings.push(Warning::new(
-            WarningCode::HealthCondition,
-            Severity::Safety,
-            text,
-        ));
-        cautions.push(text.to_string());
-    }
-}
-
-impl PlanSettings {
-    /// Adds every out-of-range setting to `issues`, named under `prefix`.
-    pub fn validate(&self, prefix: &str, issues: &mut Issues) {
-        issues.range(
-            format!("{prefix}.non_exercise_activity_factor"),
-            self.non_exercise_activity_factor,
-            1.1,
-            2.0,
-            "",
-        );
-        self.energy_availability
-            .validate(&format!("{prefix}.energy_availability"), issues);
-        issues.range(
-            format!("{prefix}.default_body_fat.male_percent"),
-            self.default_body_fat.male_percent,
-            3.0,
-            50.0,
-            "%",
-        );
-        issues.range(
-            format!("{prefix}.default_body_fat.female_percent"),
-            self.default_body_fat.female_percent,
-            3.0,
-            50.0,
-            "%",
-        );
-        issues.range(
-            format!("{prefix}.max_body_mass_change_percent_per_week"),
-            self.max_body_mass_change_percent_per_week,
-            0.1,
-            1.5,
-            "% per week",
-        );
-        issues.range(
-            "settingself.moderate_intensity_fraction_vo2max",
-            self.moderate_intensity_fraction_vo2max,
-            0.3,
-            0.7,
-            "(fraction of VO2max)",
-        );
-        issues.range(
-            format!("{prefix}.protein_g_per_kg"),
-            self.protein_g_per_kg,
-            1.2,
-            2.0,
-            "g/kg",
-        );
-        issues.range(
-            format!("{prefix}.protein_g_per_kg_during_loss"),
-            self.protein_g_per_kg_during_loss,
-            1.2,
-            2.0,
-            "g/kg",
-        );
-        issues.range(
-            format!("{prefix}.carbohydrate_loading_hours"),
-            self.carbohydrate_loading_hours,
-            36.0,
-            48.0,
-            "h",
-        );
-        self.meal_times
-            .validate(&format!("{prefix}.meal_times"), issues);
-    }
-}
-
-impl DayPins {
-    /// Adds every out-of-range pin to `issues`, named under `prefix`.
-    pub fn validate(&self, prefix: &str, issues: &mut Issues) {
-        if let Some(pin) = self.carbohydrate_g_per_kg {
-            issues.range(
-                format!("{prefix}.carbohydrate_g_per_kg"),
-                pin,
-                0.0,
-                20.0,
-                "g/kg",
-            );
-        }
-        if let Some(pin) = self.protein_g_per_kg {
-            issues.range(format!("{prefix}.protein_g_per_kg"), pin, 0.5, 4.0, "g/kg");
-        }
-        if let Some(pin) = self.energy_kcal {
-            issues.range(
-                format!("{prefix}.energy_kcal"),
-                pin,
-                500.0,
-                10_000.0,
-                "kcal",
-            );
-        }
-    }
 }
 
 fn validate(input: &DayInput) -> Result<(), InvalidInput> {

@@ -1,19 +1,28 @@
-//! Daily targets: load band, carbohydrate, protein and fat.
+//! Daily targets: carbohydrate from the day's work, its load band, protein
+//! and fat.
 //!
 //! Guided tour:
-//! - [`classify_day`]: puts a day into one of the load bands of Thomas,
-//!   Erdman & Burke (2016) from the minutes and intensity of the athlete's work.
-//! - [`daily_carbohydrate`]: "fuel for the work required". Inside the band the
-//!   day sits at the band's low end plus the carbohydrate its work oxidises
-//!   and the carbohydrate tomorrow's key sessions will need (both per kg),
-//!   capped at the band's top. Competition rules (team-sport match practice,
-//!   fuelling up, carbohydrate loading) then take over where they apply.
-//! - [`daily_protein`] and [`fat_for_energy`]: protein 1.2-2.0 g/kg/d and fat as
-//!   the energy left over, never below 20% of energy.
+//! - [`classify_day`]: measures the day's fuel demand in g/kg: the
+//!   carbohydrate today's sessions oxidise (forecast from normal stores, so the
+//!   demand is the work's, not the state's), a share of tomorrow's key work,
+//!   all of tomorrow's competition, and the working-muscle glycogen still
+//!   missing at the start of the day.
+//! - [`work_curve`]: turns that demand into g/kg/day with one smooth,
+//!   saturating curve through the position stand's bands (light 3-5,
+//!   moderate 5-7, high 6-10, very high 8-12 g/kg/d). There are no edges in
+//!   minutes or intensity, so one more minute or a slightly different fitness
+//!   test moves the target by a little, never by a band.
+//! - [`LoadBand::of`]: the band a value falls in (the band whose range holds it
+//!   and whose middle is nearest), a label for people, not a step.
+//! - [`daily_carbohydrate`]: competition rules (team-sport match practice,
+//!   fuelling up, carbohydrate loading) hold the curve inside their published
+//!   ranges on the days they apply.
+//! - [`daily_protein`] and [`fit_fat`]: protein 1.2-2.0 g/kg/d and fat as the
+//!   energy left over, kept inside 20-35% of energy.
 //!
-//! Why this positioning keeps "more work never lowers carbohydrate": every
-//! band's low and high edge is at least the lighter band's, the demand term
-//! only grows with work, and each competition rule is a fixed range.
+//! Why "more work never lowers carbohydrate": the demand only grows with
+//! work, the curve is increasing, and each competition rule is a clamp into a
+//! fixed range.
 
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
@@ -72,6 +81,25 @@ impl LoadBand {
         }
     }
 
+    /// The band a daily value falls in: of the bands whose range holds it,
+    /// the one whose middle is nearest (the ranges overlap). Below 3 g/kg is
+    /// light, above 12 very high.
+    pub fn of(g_per_kg: f64) -> Self {
+        let all = [Self::Light, Self::Moderate, Self::High, Self::VeryHigh];
+        if g_per_kg <= 3.0 {
+            return Self::Light;
+        }
+        all.into_iter()
+            .filter(|band| band.range().contains(g_per_kg))
+            .min_by(|a, b| {
+                let mid = |band: &Self| (band.range().min + band.range().max) / 2.0;
+                (mid(a) - g_per_kg)
+                    .abs()
+                    .total_cmp(&(mid(b) - g_per_kg).abs())
+            })
+            .unwrap_or(Self::VeryHigh)
+    }
+
     pub fn name(self) -> &'static str {
         match self {
             Self::Light => "light",
@@ -98,81 +126,108 @@ pub const FAT_MIN_SHARE: f64 = 0.20;
 /// Usual upper end of fat, 35% of energy (Thomas et al. 2016) [from memory].
 pub const FAT_USUAL_MAX_SHARE: f64 = 0.35;
 
-/// Minutes of moderate-or-higher work that mark the edges between bands.
-/// Common practice reading of the statement's "about 1 h", "1-3 h" and
-/// "over 4-5 h": up to 75 min is about an hour, over 4 h is very high.
-const MODERATE_DAY_MAX_MINUTES: f64 = 75.0;
-const HIGH_DAY_MAX_MINUTES: f64 = 240.0;
+/// The work curve: `WORK_CURVE_FLOOR + WORK_CURVE_SPAN x (1 - exp(-demand /
+/// WORK_CURVE_SCALE))`, demand in g/kg. Calibrated (ours, common practice) so
+/// that a rest day sits at the light band's low end (3 g/kg), about 1.5 g/kg of
+/// work (an hour at moderate intensity) gives about 5 (moderate), 3-4 g/kg
+/// (1.5-2.5 h of hard work) 6.5-7.5 (high) and 9 g/kg (4-5 h) about 9.6 (very
+/// high), the bands of Thomas, Erdman & Burke (2016). The span keeps the
+/// steepest change at 0.29 g/kg per 10% more work (`SPAN / e / 10`).
+pub const WORK_CURVE_FLOOR: f64 = 3.0;
+pub const WORK_CURVE_SPAN: f64 = 8.0;
+pub const WORK_CURVE_SCALE: f64 = 5.0;
+/// Share of tomorrow's key training sessions counted today (ours): the day
+/// before a key session raises carbohydrate a little, its own day carries it.
+pub const NEXT_DAY_KEY_SHARE: f64 = 0.25;
+/// Share of tomorrow's competition counted today: all of it, the day before
+/// is when stores are filled for it (fuelling up, common practice).
+pub const NEXT_DAY_COMPETITION_SHARE: f64 = 1.0;
+
+/// Daily carbohydrate, g/kg, for a fuel demand in g/kg (see the constants).
+pub fn work_curve(demand_g_per_kg: f64) -> f64 {
+    let demand = demand_g_per_kg.max(0.0);
+    WORK_CURVE_FLOOR + WORK_CURVE_SPAN * (1.0 - (-demand / WORK_CURVE_SCALE).exp())
+}
 
 /// The day's load as the planner sees it.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, ToSchema)]
 pub struct DayLoad {
-    /// The day's load band.
+    /// The load band the day's carbohydrate falls in (a label, see `LoadBand::of`).
     pub band: LoadBand,
     /// The band's range, g/kg/d.
     pub band_range: GramsPerKgRange,
     /// All of the athlete's session minutes on the day.
     pub total_minutes: f64,
-    /// Minutes in sessions at or above the moderate-intensity threshold.
+    /// Minutes in sessions at or above the moderate-intensity threshold (information).
     pub moderate_or_higher_minutes: f64,
-    /// Carbohydrate the day's sessions oxidise, g per kg body mass.
+    /// Carbohydrate the day's sessions oxidise from normal stores, g per kg body mass.
     pub carbohydrate_oxidised_g_per_kg: f64,
-    /// Carbohydrate the next day's key sessions and matches will oxidise, g/kg.
+    /// Carbohydrate the next day's key sessions and competitions will oxidise, g/kg.
     pub next_day_key_carbohydrate_g_per_kg: f64,
-    /// Sessions that set the band (the moderate-or-higher ones, else all).
+    /// Working-muscle glycogen missing at the start of the day, g/kg (estimate).
+    pub glycogen_to_restore_g_per_kg: f64,
+    /// The fuel demand the work curve reads: today's work, 25% of tomorrow's
+    /// key training, all of tomorrow's competition and the glycogen to restore, g/kg.
+    pub fuel_demand_g_per_kg: f64,
+    /// Sessions that drive the demand.
     pub driving_sessions: Vec<SessionRef>,
 }
 
-/// Classifies the day. `moderate_fraction_vo2max` is the intensity from
-/// which a session counts as moderate (default 0.46: the lower edge of
-/// "moderate" in the ACSM table, Garber et al. 2011, Med Sci Sports Exerc
-/// 43:1334, from memory).
+/// Measures the day. `moderate_fraction_vo2max` only labels minutes (default
+/// 0.46: the lower edge of "moderate" in the ACSM table, Garber et al. 2011,
+/// Med Sci Sports Exerc 43:1334, from memory); it sets no edge in the target.
 pub fn classify_day(
     today: &[SessionWork],
     next_day: &[SessionWork],
     body_mass_kg: f64,
     moderate_fraction_vo2max: f64,
+    glycogen_to_restore_g: f64,
 ) -> DayLoad {
     let total_minutes = total(today.iter().map(|s| s.minutes));
-    let demanding: Vec<&SessionWork> = sorted(today)
-        .into_iter()
-        .filter(|s| s.mean_fraction_vo2max >= moderate_fraction_vo2max)
+    let moderate_or_higher_minutes = total(
+        today
+            .iter()
+            .filter(|s| s.mean_fraction_vo2max >= moderate_fraction_vo2max)
+            .map(|s| s.minutes),
+    );
+    let oxidised = total(today.iter().map(|s| s.carbohydrate_g)) / body_mass_kg;
+    let next_key = total(
+        next_day
+            .iter()
+            .filter(|s| s.is_key())
+            .map(|s| s.carbohydrate_g * next_day_share(s)),
+    ) / body_mass_kg;
+    let restore = glycogen_to_restore_g.max(0.0) / body_mass_kg;
+    let demand = oxidised + next_key + restore;
+    let band = LoadBand::of(work_curve(demand));
+    let mut driving_sessions: Vec<SessionRef> = sorted(today)
+        .iter()
+        .map(|s| s.reference(RelativeDay::SameDay))
         .collect();
-    let moderate_or_higher_minutes = total(demanding.iter().map(|s| s.minutes));
-    let band = if moderate_or_higher_minutes <= 0.0 {
-        LoadBand::Light
-    } else if moderate_or_higher_minutes <= MODERATE_DAY_MAX_MINUTES {
-        LoadBand::Moderate
-    } else if moderate_or_higher_minutes <= HIGH_DAY_MAX_MINUTES {
-        LoadBand::High
-    } else {
-        LoadBand::VeryHigh
-    };
-    let driving_sessions = if demanding.is_empty() {
-        sorted(today)
+    driving_sessions.extend(
+        next_day
             .iter()
-            .map(|s| s.reference(RelativeDay::SameDay))
-            .collect()
-    } else {
-        demanding
-            .iter()
-            .map(|s| s.reference(RelativeDay::SameDay))
-            .collect()
-    };
+            .filter(|s| s.is_key())
+            .map(|s| s.reference(RelativeDay::NextDay)),
+    );
     DayLoad {
         band,
         band_range: band.range(),
         total_minutes,
         moderate_or_higher_minutes,
-        carbohydrate_oxidised_g_per_kg: total(today.iter().map(|s| s.carbohydrate_g))
-            / body_mass_kg,
-        next_day_key_carbohydrate_g_per_kg: total(
-            next_day
-                .iter()
-                .filter(|s| s.is_key())
-                .map(|s| s.carbohydrate_g),
-        ) / body_mass_kg,
+        carbohydrate_oxidised_g_per_kg: oxidised,
+        next_day_key_carbohydrate_g_per_kg: next_key,
+        glycogen_to_restore_g_per_kg: restore,
+        fuel_demand_g_per_kg: demand,
         driving_sessions,
+    }
+}
+
+/// The share of a next-day key session's carbohydrate counted today.
+fn next_day_share(session: &SessionWork) -> f64 {
+    match session.preparation() {
+        ResolvedPreparation::None => NEXT_DAY_KEY_SHARE,
+        _ => NEXT_DAY_COMPETITION_SHARE,
     }
 }
 
@@ -216,60 +271,52 @@ pub struct Upcoming<'a> {
     /// Noon of the planned day: loading for an event the day after next
     /// reaches today only when it starts before this noon.
     pub today_noon: chrono::NaiveDateTime,
+    /// The athlete's body mass, kg (sizes an event two days ahead).
+    pub body_mass_kg: f64,
 }
 
-/// Daily carbohydrate in g/kg: load band first, then competition rules.
+/// Daily carbohydrate in g/kg: the work curve first, then competition rules.
 pub fn daily_carbohydrate(
     today: &[SessionWork],
     load: &DayLoad,
     upcoming: &Upcoming<'_>,
 ) -> CarbohydrateDecision {
-    let demand = load.carbohydrate_oxidised_g_per_kg + load.next_day_key_carbohydrate_g_per_kg;
-    let range = load.band_range;
-    let band_value = range.position(range.min + demand);
-    let mut sessions = load.driving_sessions.clone();
-    sessions.extend(
-        upcoming
-            .next_day
-            .iter()
-            .filter(|s| s.is_key())
-            .map(|s| s.reference(RelativeDay::NextDay)),
-    );
+    let demand = load.fuel_demand_g_per_kg;
+    let curve = work_curve(demand);
+    let sessions = load.driving_sessions.clone();
     let demand_text = format!(
-        "today's sessions oxidise about {:.1} g/kg and tomorrow's key sessions about {:.1} g/kg",
-        load.carbohydrate_oxidised_g_per_kg, load.next_day_key_carbohydrate_g_per_kg
+        "fuel demand {demand:.2} g/kg (today's sessions oxidise {:.2} g/kg, tomorrow's key work counts {:.2} g/kg, {:.2} g/kg of working-muscle glycogen to restore)",
+        load.carbohydrate_oxidised_g_per_kg,
+        load.next_day_key_carbohydrate_g_per_kg,
+        load.glycogen_to_restore_g_per_kg
     );
-    let mut decision = if today.is_empty() {
-        CarbohydrateDecision {
-            g_per_kg: band_value,
-            rule: CarbohydrateRule::RestDay,
-            range,
-            sessions: sessions.clone(),
-            text: format!(
-                "Rest day: light band ({:.0}-{:.0} g/kg), low end, raised only by tomorrow's key work ({:.1} g/kg): {:.2} g/kg.",
-                range.min, range.max, load.next_day_key_carbohydrate_g_per_kg, band_value
-            ),
-            source: format!("{THOMAS_2016}; rest-day placement is common practice"),
-        }
-    } else {
-        CarbohydrateDecision {
-            g_per_kg: band_value,
-            rule: CarbohydrateRule::LoadBand,
-            range,
-            sessions: sessions.clone(),
-            text: format!(
-                "{} load band ({:.0}-{:.0} g/kg): {:.0} min of work, {:.0} min at moderate or higher intensity; {demand_text}; band low end plus that demand, capped at the band's top: {:.2} g/kg.",
-                capitalise(load.band.name()),
-                range.min,
-                range.max,
-                load.total_minutes,
-                load.moderate_or_higher_minutes,
-                band_value
-            ),
-            source: format!(
-                "{THOMAS_2016}; positioning inside the band by fuel demand is common practice (fuel for the work required)"
-            ),
-        }
+    let curve_text = format!(
+        "{WORK_CURVE_FLOOR:.0} + {WORK_CURVE_SPAN:.0} x (1 - e^(-{demand:.2}/{WORK_CURVE_SCALE:.0})) = {curve:.2} g/kg"
+    );
+    let range = load.band_range;
+    let decision = CarbohydrateDecision {
+        g_per_kg: curve,
+        rule: if today.is_empty() {
+            CarbohydrateRule::RestDay
+        } else {
+            CarbohydrateRule::LoadBand
+        },
+        range,
+        sessions: sessions.clone(),
+        text: format!(
+            "{}: {demand_text}; work curve {curve_text}, in the {} band ({:.0}-{:.0} g/kg)",
+            if today.is_empty() {
+                "Rest day"
+            } else {
+                "Fuel for the work"
+            },
+            load.band.name(),
+            range.min,
+            range.max,
+        ),
+        source: format!(
+            "{THOMAS_2016} (load bands); the work curve through them is our calibration (common practice: fuel for the work required)"
+        ),
     };
 
     // Competition rules, strongest first: loading, fuelling up, team-sport match.
@@ -289,38 +336,39 @@ pub fn daily_carbohydrate(
         )
         .find(|(s, _)| s.preparation() == ResolvedPreparation::CarbohydrateLoading);
     if let Some((event, day)) = loading_event {
-        let rule_value =
-            CARBOHYDRATE_LOADING_RANGE.position(CARBOHYDRATE_LOADING_RANGE.min + demand);
-        let value = decision.g_per_kg.max(rule_value);
-        decision = CarbohydrateDecision {
+        let extra = if day == RelativeDay::DayAfterNext {
+            event.carbohydrate_g / upcoming.body_mass_kg
+        } else {
+            0.0
+        };
+        let value = CARBOHYDRATE_LOADING_RANGE.position(work_curve(demand + extra));
+        return CarbohydrateDecision {
             g_per_kg: value,
             rule: CarbohydrateRule::CarbohydrateLoading,
             range: CARBOHYDRATE_LOADING_RANGE,
             sessions: with(sessions, event.reference(day)),
             text: format!(
-                "Carbohydrate loading for '{}' ({:.0} min, over 90 min, loading enabled) within the {:.0} h before it: 10-12 g/kg, positioned by demand ({demand_text}): {value:.2} g/kg.",
+                "Carbohydrate loading for '{}' ({:.0} min, over 90 min, loading enabled) within the {:.0} h before it: the work curve ({curve_text}) held inside 10-12 g/kg: {value:.2} g/kg",
                 event.title, event.minutes, upcoming.loading_hours
             ),
             source: format!(
                 "{THOMAS_2016} (carbohydrate loading 10-12 g/kg for 36-48 h, from memory)"
             ),
         };
-        return decision;
     }
     if let Some(event) = upcoming
         .next_day
         .iter()
         .find(|s| s.preparation() == ResolvedPreparation::FuellingUp)
     {
-        let rule_value = FUELLING_UP_RANGE.position(FUELLING_UP_RANGE.min + demand);
-        let value = decision.g_per_kg.max(rule_value);
+        let value = FUELLING_UP_RANGE.position(curve);
         return CarbohydrateDecision {
             g_per_kg: value,
             rule: CarbohydrateRule::FuellingUp,
             range: FUELLING_UP_RANGE,
             sessions: with(sessions, event.reference(RelativeDay::NextDay)),
             text: format!(
-                "General fuelling up for '{}' ({:.0} min competition) tomorrow: 7-12 g/kg in the 24 h before, positioned by demand ({demand_text}): {value:.2} g/kg.",
+                "General fuelling up for '{}' ({:.0} min competition) tomorrow: {demand_text}; the work curve ({curve_text}) held inside 7-12 g/kg: {value:.2} g/kg",
                 event.title, event.minutes
             ),
             source: format!("{THOMAS_2016} (general fuelling up 7-12 g/kg per 24 h, from memory)"),
@@ -337,11 +385,11 @@ pub fn daily_carbohydrate(
         .map(|s| (s, CarbohydrateRule::TeamSportMatchDay, RelativeDay::SameDay))
         .or(match_tomorrow.map(|s| (s, CarbohydrateRule::TeamSportMatchEve, RelativeDay::NextDay)))
     {
-        // A very high band day (over 4 h of hard work) keeps its own, higher range.
-        if load.band == LoadBand::VeryHigh {
+        // More work than the match range covers keeps the curve's higher value.
+        if curve > TEAM_SPORT_MATCH_RANGE.max {
             return decision;
         }
-        let value = TEAM_SPORT_MATCH_RANGE.position(TEAM_SPORT_MATCH_RANGE.min + demand);
+        let value = TEAM_SPORT_MATCH_RANGE.position(curve);
         let when = if rule == CarbohydrateRule::TeamSportMatchDay {
             "today"
         } else {
@@ -353,10 +401,8 @@ pub fn daily_carbohydrate(
             range: TEAM_SPORT_MATCH_RANGE,
             sessions: with(sessions, event.reference(day)),
             text: format!(
-                "Team-sport match '{}' {when}: 6-8 g/kg on match day and the day before, positioned by this athlete's demand ({demand_text}): {value:.2} g/kg (the {} band alone would give {:.2}).",
+                "Team-sport match '{}' {when}: {demand_text}; the work curve ({curve_text}) held inside 6-8 g/kg for match day and the day before: {value:.2} g/kg",
                 event.title,
-                load.band.name(),
-                band_value
             ),
             source: "Expert group statement on nutrition in elite football (2021), 6-8 g/kg on match day and the day before [from memory]".into(),
         };
@@ -371,14 +417,6 @@ fn with(mut sessions: Vec<SessionRef>, extra: SessionRef) -> Vec<SessionRef> {
     sessions
 }
 
-fn capitalise(text: &str) -> String {
-    let mut chars = text.chars();
-    match chars.next() {
-        Some(first) => first.to_uppercase().chain(chars).collect(),
-        None => String::new(),
-    }
-}
-
 /// Protein g/kg/d: the settings' everyday value, or the loss value (upper end
 /// of 1.2-2.0) while body mass is being reduced.
 pub fn daily_protein(goal: GoalDirection, everyday: f64, during_loss: f64) -> f64 {
@@ -388,15 +426,40 @@ pub fn daily_protein(goal: GoalDirection, everyday: f64, during_loss: f64) -> f6
     }
 }
 
-/// Fat and final energy.
+/// What the macronutrient fit may move.
 #[derive(Debug, Clone, Copy, PartialEq)]
-pub struct FatAndEnergy {
-    /// Fat, g.
-    pub fat_g: f64,
-    /// Energy after the fat floor, kcal.
+pub struct MacroRequest {
+    /// Planned energy, kcal.
     pub energy_kcal: f64,
-    /// kcal the 20% floor added above the requested energy.
-    pub floor_added_kcal: f64,
+    /// Carbohydrate from the day's work, g, and how far it may move, g.
+    pub carbohydrate_g: f64,
+    pub carbohydrate_min_g: f64,
+    pub carbohydrate_max_g: f64,
+    /// Protein, g, and the most it may rise to, g.
+    pub protein_g: f64,
+    pub protein_max_g: f64,
+    /// Pinned values are never moved.
+    pub carbohydrate_pinned: bool,
+    pub protein_pinned: bool,
+    pub energy_pinned: bool,
+    /// Keep energy (a body-mass loss deficit): trim carbohydrate toward its
+    /// range's low end before raising energy to keep fat at 20%.
+    pub hold_energy: bool,
+}
+
+/// The fitted day: carbohydrate, protein, fat and energy.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct MacroFit {
+    pub carbohydrate_g: f64,
+    pub protein_g: f64,
+    pub fat_g: f64,
+    pub energy_kcal: f64,
+    /// Carbohydrate added (+) or trimmed (-) to keep fat inside 20-35%, g.
+    pub carbohydrate_moved_g: f64,
+    /// Protein added to keep fat at or under 35%, g.
+    pub protein_added_g: f64,
+    /// Energy added to keep fat at 20% of energy, kcal.
+    pub energy_added_kcal: f64,
 }
 
 /// Atwater general factors, kcal per g (Atwater 1900s; common practice).
@@ -404,39 +467,64 @@ pub const KCAL_PER_G_CARBOHYDRATE: f64 = 4.0;
 pub const KCAL_PER_G_PROTEIN: f64 = 4.0;
 pub const KCAL_PER_G_FAT: f64 = 9.0;
 
-/// Fat is what energy leaves after carbohydrate and protein. When that is
-/// under 20% of energy, fat is raised to 20% of the new total (energy rises)
-/// unless the energy is pinned, in which case the pin is kept and fat is the
-/// remainder (never negative); the caller warns in both cases.
-pub fn fat_for_energy(
-    energy_kcal: f64,
-    carbohydrate_g: f64,
-    protein_g: f64,
-    energy_pinned: bool,
-) -> FatAndEnergy {
-    let other = carbohydrate_g * KCAL_PER_G_CARBOHYDRATE + protein_g * KCAL_PER_G_PROTEIN;
-    let remainder = energy_kcal - other;
-    if remainder >= FAT_MIN_SHARE * energy_kcal {
-        return FatAndEnergy {
-            fat_g: remainder / KCAL_PER_G_FAT,
-            energy_kcal,
-            floor_added_kcal: 0.0,
-        };
+/// Fat fills what energy leaves after carbohydrate and protein, inside 20-35%
+/// of energy (Thomas et al. 2016, from memory):
+/// - over 35%: protein rises toward its maximum, then carbohydrate toward its
+///   range's top, so a light day is filled with food the plan wants rather
+///   than with fat; only what is left beyond both goes to fat;
+/// - under 20%: a pinned energy is kept (fat is the remainder, never
+///   negative); a held energy (body-mass loss) first trims carbohydrate toward
+///   its range's low end; otherwise, or when that is not enough, energy rises
+///   to keep fat at 20%. The caller explains and warns.
+pub fn fit_fat(request: &MacroRequest) -> MacroFit {
+    let energy = request.energy_kcal;
+    let mut carbohydrate = request.carbohydrate_g;
+    let mut protein = request.protein_g;
+    let kcal = |c: f64, p: f64| c * KCAL_PER_G_CARBOHYDRATE + p * KCAL_PER_G_PROTEIN;
+    let mut fit = MacroFit {
+        carbohydrate_g: carbohydrate,
+        protein_g: protein,
+        fat_g: 0.0,
+        energy_kcal: energy,
+        carbohydrate_moved_g: 0.0,
+        protein_added_g: 0.0,
+        energy_added_kcal: 0.0,
+    };
+    let remainder = energy - kcal(carbohydrate, protein);
+    if remainder > FAT_USUAL_MAX_SHARE * energy {
+        let mut excess = remainder - FAT_USUAL_MAX_SHARE * energy;
+        if !request.protein_pinned {
+            let add = (excess / KCAL_PER_G_PROTEIN).min((request.protein_max_g - protein).max(0.0));
+            protein += add;
+            fit.protein_added_g = add;
+            excess -= add * KCAL_PER_G_PROTEIN;
+        }
+        if !request.carbohydrate_pinned {
+            let add = (excess / KCAL_PER_G_CARBOHYDRATE)
+                .min((request.carbohydrate_max_g - carbohydrate).max(0.0));
+            carbohydrate += add;
+            fit.carbohydrate_moved_g = add;
+        }
+    } else if remainder < FAT_MIN_SHARE * energy && !request.energy_pinned {
+        if request.hold_energy && !request.carbohydrate_pinned {
+            let short = FAT_MIN_SHARE * energy - remainder;
+            let trim = (short / KCAL_PER_G_CARBOHYDRATE)
+                .min((carbohydrate - request.carbohydrate_min_g).max(0.0));
+            carbohydrate -= trim;
+            fit.carbohydrate_moved_g = -trim;
+        }
+        let other = kcal(carbohydrate, protein);
+        if energy - other < FAT_MIN_SHARE * energy {
+            // fat = 20% of E and E = other + fat, so E = other / 0.8.
+            let raised = other / (1.0 - FAT_MIN_SHARE);
+            fit.energy_added_kcal = raised - energy;
+            fit.energy_kcal = raised;
+        }
     }
-    if energy_pinned {
-        return FatAndEnergy {
-            fat_g: remainder.max(0.0) / KCAL_PER_G_FAT,
-            energy_kcal,
-            floor_added_kcal: 0.0,
-        };
-    }
-    // fat = 20% of E and E = other + fat, so E = other / 0.8.
-    let raised = other / (1.0 - FAT_MIN_SHARE);
-    FatAndEnergy {
-        fat_g: FAT_MIN_SHARE * raised / KCAL_PER_G_FAT,
-        energy_kcal: raised,
-        floor_added_kcal: raised - energy_kcal,
-    }
+    fit.carbohydrate_g = carbohydrate;
+    fit.protein_g = protein;
+    fit.fat_g = (fit.energy_kcal - kcal(carbohydrate, protein)).max(0.0) / KCAL_PER_G_FAT;
+    fit
 }
 
 #[cfg(test)]
@@ -466,6 +554,24 @@ mod tests {
         }
     }
 
+    fn upcoming<'a>(next: &'a [SessionWork], after: &'a [SessionWork]) -> Upcoming<'a> {
+        Upcoming {
+            next_day: next,
+            day_after_next: after,
+            loading_hours: 36.0,
+            today_noon: NaiveDate::from_ymd_opt(2026, 3, 10)
+                .unwrap()
+                .and_hms_opt(12, 0, 0)
+                .unwrap(),
+            body_mass_kg: 70.0,
+        }
+    }
+
+    fn target(today: &[SessionWork], next: &[SessionWork]) -> f64 {
+        let load = classify_day(today, next, 70.0, 0.46, 0.0);
+        daily_carbohydrate(today, &load, &upcoming(next, &[])).g_per_kg
+    }
+
     #[test]
     fn load_bands_match_the_position_statement() {
         // Thomas, Erdman & Burke (2016): light 3-5, moderate 5-7, high 6-10, very high 8-12 g/kg/d.
@@ -473,37 +579,144 @@ mod tests {
         assert_eq!(LoadBand::Moderate.range(), GramsPerKgRange::new(5.0, 7.0));
         assert_eq!(LoadBand::High.range(), GramsPerKgRange::new(6.0, 10.0));
         assert_eq!(LoadBand::VeryHigh.range(), GramsPerKgRange::new(8.0, 12.0));
-        let m = 70.0;
-        let band = |s: Vec<SessionWork>| classify_day(&s, &[], m, 0.46).band;
-        assert_eq!(band(vec![]), LoadBand::Light);
-        // Skill session at low intensity: light ("low intensity or skill-based").
-        assert_eq!(band(vec![session(60.0, 0.40, 40.0)]), LoadBand::Light);
-        // About 1 h moderate: moderate.
-        assert_eq!(band(vec![session(60.0, 0.60, 120.0)]), LoadBand::Moderate);
-        // 1-3 h moderate to high: high.
-        assert_eq!(band(vec![session(120.0, 0.70, 300.0)]), LoadBand::High);
-        // Over 4 h moderate to high: very high.
-        assert_eq!(
-            band(vec![
-                session(150.0, 0.65, 300.0),
-                session(150.0, 0.65, 300.0)
-            ]),
-            LoadBand::VeryHigh
+        assert_eq!(LoadBand::of(3.4), LoadBand::Light);
+        assert_eq!(LoadBand::of(5.6), LoadBand::Moderate);
+        assert_eq!(LoadBand::of(7.5), LoadBand::High);
+        assert_eq!(LoadBand::of(10.5), LoadBand::VeryHigh);
+    }
+
+    #[test]
+    fn the_work_curve_puts_canonical_days_in_their_bands() {
+        // Thomas, Erdman & Burke (2016) bands; the work per day is a typical
+        // 70 kg athlete's carbohydrate oxidation (about 1.5-2.5 g/min at
+        // 60-75% VO2max: Romijn et al. 1993, from memory).
+        let g = |minutes: f64, g_per_min: f64| {
+            target(&[session(minutes, 0.65, minutes * g_per_min)], &[])
+        };
+        // Rest day: the light band's low end.
+        assert!((target(&[], &[]) - 3.0).abs() < 1e-9);
+        // A low-intensity skill session: light.
+        assert!(LoadBand::Light.range().contains(g(60.0, 0.6)));
+        // About 1 h of moderate work: moderate, 5-7.
+        assert!(
+            LoadBand::Moderate.range().contains(g(60.0, 1.8)),
+            "{}",
+            g(60.0, 1.8)
+        );
+        // 1-3 h moderate to high: high, 6-10.
+        for minutes in [90.0, 120.0, 180.0] {
+            assert!(
+                LoadBand::High.range().contains(g(minutes, 2.2)),
+                "{minutes}: {}",
+                g(minutes, 2.2)
+            );
+        }
+        // Over 4-5 h: very high, 8-12.
+        assert!(
+            LoadBand::VeryHigh.range().contains(g(300.0, 2.2)),
+            "{}",
+            g(300.0, 2.2)
         );
     }
 
     #[test]
-    fn fat_floor_raises_energy_to_keep_twenty_percent() {
-        // Thomas et al. (2016): fat not below 20% of energy (from memory).
-        // 700 g CHO + 120 g protein = 3280 kcal; energy 3500 leaves 220 kcal (6%).
-        let result = fat_for_energy(3500.0, 700.0, 120.0, false);
-        let share = result.fat_g * 9.0 / result.energy_kcal;
-        assert!((share - 0.20).abs() < 1e-9);
-        assert!((result.energy_kcal - 4100.0).abs() < 1e-9);
-        assert!((result.floor_added_kcal - 600.0).abs() < 1e-9);
-        // Enough energy: fat is the remainder, energy unchanged.
-        let result = fat_for_energy(3000.0, 400.0, 120.0, false);
-        assert!((result.fat_g - (3000.0 - 2080.0) / 9.0).abs() < 1e-9);
-        assert_eq!(result.floor_added_kcal, 0.0);
+    fn the_target_is_continuous_and_never_falls_with_more_work() {
+        // Plausibility (common practice): no jump over 0.3 g/kg for 10% more
+        // work anywhere from rest to 12 g/kg of demand, and never downwards.
+        let mut demand = 0.05;
+        while demand < 12.0 {
+            let a = work_curve(demand);
+            let b = work_curve(demand * 1.1);
+            assert!(b >= a, "{demand}");
+            assert!(b - a <= 0.3, "{demand}: {a} -> {b}");
+            demand *= 1.05;
+        }
+        // One more minute of a 75-minute session moves the target by little.
+        let at = |minutes: f64| target(&[session(minutes, 0.65, minutes * 2.0)], &[]);
+        assert!(
+            (at(76.0) - at(75.0)).abs() < 0.05,
+            "{} {}",
+            at(75.0),
+            at(76.0)
+        );
+        // A slightly different intensity (a fitness-test difference) too.
+        let a = target(&[session(75.0, 0.45, 110.0)], &[]);
+        let b = target(&[session(75.0, 0.47, 118.0)], &[]);
+        assert!((b - a).abs() < 0.2, "{a} {b}");
+    }
+
+    #[test]
+    fn match_day_and_the_day_before_stay_in_six_to_eight() {
+        // 6-8 g/kg on match day and the day before (expert group statement on
+        // nutrition in elite football, 2021, from memory).
+        let mut matchday = session(95.0, 0.7, 210.0);
+        matchday.kind = SessionKind::Match;
+        let eve = target(
+            &[session(45.0, 0.45, 30.0)],
+            std::slice::from_ref(&matchday),
+        );
+        let day = target(std::slice::from_ref(&matchday), &[]);
+        for value in [eve, day] {
+            assert!(TEAM_SPORT_MATCH_RANGE.contains(value), "{value}");
+        }
+        // A 90-minute training day with the same work as the match is not above it.
+        let training = target(&[session(90.0, 0.7, 200.0)], &[]);
+        assert!(training <= day + 1e-9, "{training} vs {day}");
+    }
+
+    #[test]
+    fn glycogen_to_restore_raises_the_target_smoothly() {
+        // Common practice: refill after a depleting day; the restore term is
+        // continuous in the missing glycogen.
+        let today = [session(40.0, 0.4, 20.0)];
+        let at = |restore_g: f64| {
+            let load = classify_day(&today, &[], 70.0, 0.46, restore_g);
+            daily_carbohydrate(&today, &load, &upcoming(&[], &[])).g_per_kg
+        };
+        assert!(at(150.0) > at(0.0) + 1.0);
+        assert!(at(105.0) - at(100.0) < 0.05);
+    }
+
+    #[test]
+    fn fat_stays_inside_twenty_to_thirty_five_percent() {
+        // Thomas et al. (2016): fat 20-35% of energy (from memory).
+        let base = MacroRequest {
+            energy_kcal: 3100.0,
+            carbohydrate_g: 240.0,
+            carbohydrate_min_g: 210.0,
+            carbohydrate_max_g: 400.0,
+            protein_g: 128.0,
+            protein_max_g: 160.0,
+            carbohydrate_pinned: false,
+            protein_pinned: false,
+            energy_pinned: false,
+            hold_energy: false,
+        };
+        // A light day: protein then carbohydrate fill energy, fat at 35%.
+        let fit = fit_fat(&base);
+        let share = fit.fat_g * 9.0 / fit.energy_kcal;
+        assert!((share - 0.35).abs() < 1e-9, "{share}");
+        assert!((fit.protein_g - 160.0).abs() < 1e-9);
+        assert!(fit.carbohydrate_g > 240.0 && fit.carbohydrate_g <= 400.0);
+        assert!((fit.energy_kcal - 3100.0).abs() < 1e-9);
+        // A high day: energy rises to keep fat at 20% when it is not held.
+        let high = MacroRequest {
+            energy_kcal: 3500.0,
+            carbohydrate_g: 700.0,
+            carbohydrate_min_g: 600.0,
+            carbohydrate_max_g: 800.0,
+            protein_g: 120.0,
+            ..base
+        };
+        let fit = fit_fat(&high);
+        assert!((fit.fat_g * 9.0 / fit.energy_kcal - 0.20).abs() < 1e-9);
+        assert!((fit.energy_kcal - 4100.0).abs() < 1e-6);
+        // Held energy (a body-mass loss deficit): carbohydrate is trimmed first.
+        let held = fit_fat(&MacroRequest {
+            hold_energy: true,
+            ..high
+        });
+        assert!((held.carbohydrate_g - 600.0).abs() < 1e-9);
+        assert!(held.energy_kcal < 4100.0);
     }
 }

@@ -18,9 +18,17 @@
 //! - 162 mg per mmol glucosyl unit (C6H10O5, 162.14 g/mol).
 //! - Liver glycogen about 100-120 g when fed [confirmed]; we take 110 g.
 //!
-//! The capacity is whole-body muscle; a session draws mostly on the working
-//! muscles, so whole-body percentages understate the local depletion in, say,
-//! the thigh muscles.
+//! - The working muscles of running, team sports and cycling are the lower
+//!   body: about 55% of skeletal muscle (Janssen et al. 2000: lower-body
+//!   muscle about 55% of the total) [`from memory`].
+//!
+//! The model tracks the **working muscles**, not the whole body: a session
+//! draws its muscle glycogen from the legs, and whole-body percentages would
+//! understate how far those run down (a match empties a large part of the
+//! thigh's glycogen, Krustrup et al. 2006, Med Sci Sports Exerc 38:1165:
+//! about 40-45% lower after the match, from memory). The rest of the
+//! muscle's glycogen is little used by the week's sessions and is reported
+//! beside it, not simulated.
 
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
@@ -30,6 +38,9 @@ use crate::engine::profile::{Sex, TrainingStatus};
 
 /// Grams of glycogen per mmol glucosyl unit.
 pub const GRAMS_PER_MMOL_GLUCOSYL: f64 = 0.162;
+/// Share of skeletal muscle in the lower body, the working muscles of the
+/// sessions modelled (Janssen et al. 2000, from memory).
+pub const WORKING_MUSCLE_FRACTION: f64 = 0.55;
 /// Liver glycogen when fed, grams (middle of 100-120 g).
 pub const LIVER_GLYCOGEN_FED_G: f64 = 110.0;
 
@@ -46,10 +57,14 @@ pub struct GlycogenState {
 /// Normal glycogen stores of one athlete (estimates).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, ToSchema)]
 pub struct GlycogenCapacity {
+    /// Working (lower-body) muscle mass, kg.
     pub muscle_mass_kg: f64,
     /// mmol glucosyl units per kg wet muscle.
     pub muscle_concentration_mmol_per_kg: f64,
+    /// Glycogen in the working muscles at normal stores, g: what the model tracks.
     pub muscle_g: f64,
+    /// Glycogen in all skeletal muscle at normal stores, g (for reference).
+    pub whole_body_muscle_g: f64,
     pub liver_g: f64,
 }
 
@@ -66,15 +81,15 @@ impl GlycogenCapacity {
     pub fn estimates(&self) -> [Estimate; 3] {
         [
             Estimate {
-                quantity: "skeletal_muscle_mass_kg",
+                quantity: "working_muscle_mass_kg",
                 segment: None,
                 value: self.muscle_mass_kg,
                 unit: "kg",
-                method: "janssen_2000_fraction_of_body_mass",
-                source: "Janssen et al. (2000) J Appl Physiol 89:81 (from memory: 38% men, 31% women)",
+                method: "janssen_2000_lower_body_share_of_skeletal_muscle",
+                source: "Janssen et al. (2000) J Appl Physiol 89:81 (from memory: skeletal muscle 38% of body mass in men, 31% in women; lower body about 55% of it)",
             },
             Estimate {
-                quantity: "muscle_glycogen_capacity_g",
+                quantity: "working_muscle_glycogen_capacity_g",
                 segment: None,
                 value: self.muscle_g,
                 unit: "g",
@@ -118,12 +133,14 @@ pub fn muscle_glycogen_g(muscle_mass_kg: f64, concentration_mmol_per_kg: f64) ->
 
 /// Normal (fed, rested) glycogen stores for an athlete.
 pub fn glycogen_capacity(sex: Sex, body_mass_kg: f64, status: TrainingStatus) -> GlycogenCapacity {
-    let muscle_mass_kg = body_mass_kg * skeletal_muscle_fraction(sex);
+    let skeletal_muscle_kg = body_mass_kg * skeletal_muscle_fraction(sex);
+    let muscle_mass_kg = skeletal_muscle_kg * WORKING_MUSCLE_FRACTION;
     let concentration = muscle_glycogen_concentration(status);
     GlycogenCapacity {
         muscle_mass_kg,
         muscle_concentration_mmol_per_kg: concentration,
         muscle_g: muscle_glycogen_g(muscle_mass_kg, concentration),
+        whole_body_muscle_g: muscle_glycogen_g(skeletal_muscle_kg, concentration),
         liver_g: LIVER_GLYCOGEN_FED_G,
     }
 }
@@ -143,10 +160,12 @@ mod tests {
         // About 400 g muscle glycogen in a 70 kg adult [confirmed]; a recreational man: 26.6 kg x 90 x 0.162 = 388 g.
         let capacity = glycogen_capacity(Sex::Male, 70.0, TrainingStatus::Recreational);
         assert!(
-            (capacity.muscle_g - 400.0).abs() < 40.0,
+            (capacity.whole_body_muscle_g - 400.0).abs() < 40.0,
             "{}",
-            capacity.muscle_g
+            capacity.whole_body_muscle_g
         );
+        // The working muscles hold about 55% of it (Janssen et al. 2000, from memory).
+        assert!((capacity.muscle_g / capacity.whole_body_muscle_g - 0.55).abs() < 1e-9);
         // Liver about 100-120 g fed [confirmed].
         assert!((100.0..=120.0).contains(&capacity.liver_g));
     }

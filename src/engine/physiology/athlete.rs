@@ -31,6 +31,9 @@ pub struct ResolvedAthlete {
     pub hr_max_measured: bool,
     pub hr_rest_bpm: Option<f64>,
     pub glycogen_capacity: GlycogenCapacity,
+    /// Share of a team-sport activity's work this athlete's position does
+    /// (1.0 outfield; see [`crate::engine::physiology::intensity`]).
+    pub team_sport_work_factor: f64,
     /// What was estimated about the athlete (not about any one session).
     pub estimates: Vec<Estimate>,
 }
@@ -87,6 +90,9 @@ pub fn resolve_athlete(profile: &AthleteProfile) -> Result<ResolvedAthlete, Inva
     // unit mistakes (pounds, metres, fractions typed as percentages).
     issues.range("profile.age_years", profile.age_years, 10.0, 100.0, "years");
     issues.range("profile.height_cm", profile.height_cm, 120.0, 230.0, "cm");
+    if let Some(factor) = profile.team_sport_work_factor {
+        issues.range("profile.team_sport_work_factor", factor, 0.2, 1.5, "");
+    }
     if let Some(rate) = profile.goal_rate_kg_per_week {
         issues.range("profile.goal_rate_kg_per_week", rate, 0.0, 2.0, "kg/week");
     }
@@ -247,6 +253,7 @@ pub fn resolve_athlete(profile: &AthleteProfile) -> Result<ResolvedAthlete, Inva
         hr_max_measured,
         hr_rest_bpm: profile.hr_rest,
         glycogen_capacity,
+        team_sport_work_factor: profile.team_sport_work_factor.unwrap_or(1.0),
         estimates,
     })
 }

@@ -19,6 +19,16 @@
 //!   Exerc 43:1334) and the CR10 verbal anchors (`from memory`). Session RPE is
 //!   a whole-session rating (Foster et al. 2001), so this is a coarse estimate.
 //! - `mets` and `activity`: METs x 3.5 (Compendium, Ainsworth et al. 2011).
+//!   Team-sport activities are the exception: play is self-paced, each player
+//!   working at a share of their own capacity, so a fitter player covers more
+//!   ground rather than working "easier". Their MET value is read as a
+//!   fraction of VO2max for a reference player of
+//!   [`TEAM_SPORT_REFERENCE_VO2MAX`] (professional outfield players are about
+//!   55-65 mL/kg/min, Bangsbo et al. 2006, J Sports Sci 24:665, from memory),
+//!   and the part above rest is scaled by the athlete's
+//!   `team_sport_work_factor` (a goalkeeper covers about half an outfield
+//!   player's distance, Di Salvo et al. 2007, Int J Sports Med 28:222, from
+//!   memory).
 //! - `running`, `walking`, `cycling`: ACSM metabolic equations (ACSM's
 //!   Guidelines for Exercise Testing and Prescription): running
 //!   `0.2 S + 0.9 S G + 3.5`, walking `0.1 S + 1.8 S G + 3.5` (S in m/min, G
@@ -26,9 +36,13 @@
 //!   level and uphill ground, so downhill grades are refused.
 
 use crate::engine::physiology::athlete::{RESTING_VO2_ML_PER_KG_MIN, ResolvedAthlete};
-use crate::engine::physiology::catalogue::activity_by_key;
+use crate::engine::physiology::catalogue::{ActivityGroup, activity_by_key};
 use crate::engine::profile::Intensity;
 use crate::engine::{InvalidInput, Issues};
+
+/// VO2max of the reference player behind team-sport MET values, mL/kg/min
+/// (common practice reading of the Compendium for squads; see the module doc).
+pub const TEAM_SPORT_REFERENCE_VO2MAX: f64 = 55.0;
 
 /// Oxygen uptake of a segment for one athlete (an estimate).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -228,12 +242,23 @@ pub(crate) fn convert_validated(athlete: &ResolvedAthlete, intensity: &Intensity
         ),
         Intensity::Activity { activity } => {
             // Validation guarantees the key exists; 1 MET keeps this total.
-            let mets = activity_by_key(activity).map_or(1.0, |entry| entry.mets);
-            (
-                mets * RESTING_VO2_ML_PER_KG_MIN,
-                "compendium_2011_activity",
-                "Compendium of Physical Activities, Ainsworth et al. (2011) Med Sci Sports Exerc 43:1575",
-            )
+            let entry = activity_by_key(activity);
+            let mets = entry.map_or(1.0, |entry| entry.mets);
+            if entry.is_some_and(|e| e.group == ActivityGroup::TeamSport) {
+                let share = mets * RESTING_VO2_ML_PER_KG_MIN / TEAM_SPORT_REFERENCE_VO2MAX;
+                let above_rest = (share * vo2max - RESTING_VO2_ML_PER_KG_MIN).max(0.0);
+                (
+                    RESTING_VO2_ML_PER_KG_MIN + athlete.team_sport_work_factor * above_rest,
+                    "compendium_2011_team_sport_relative",
+                    "Compendium of Physical Activities, Ainsworth et al. (2011), read as a share of VO2max for a 55 mL/kg/min player (common practice); position share of the work (Di Salvo et al. 2007, from memory)",
+                )
+            } else {
+                (
+                    mets * RESTING_VO2_ML_PER_KG_MIN,
+                    "compendium_2011_activity",
+                    "Compendium of Physical Activities, Ainsworth et al. (2011) Med Sci Sports Exerc 43:1575",
+                )
+            }
         }
         Intensity::Running {
             speed_kmh,
