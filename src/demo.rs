@@ -195,7 +195,7 @@ pub fn senior_week(monday: NaiveDate) -> Vec<SessionInput> {
             true,
             vec![
                 seg("warm-up", 15.0, fraction(0.55)),
-                seg("repeated sprints", 20.0, fraction(0.88)),
+                seg("repeated sprints with recoveries", 20.0, fraction(0.72)),
                 seg("finishing", 25.0, Intensity::SessionRpe { rating: 6.0 }),
                 seg(
                     "extensive runs",
@@ -270,6 +270,25 @@ pub fn senior_week(monday: NaiveDate) -> Vec<SessionInput> {
             vec![
                 seg("pool", 20.0, activity("swimming_freestyle_moderate")),
                 seg("stretch", 20.0, Intensity::Mets { mets: 2.3 }),
+            ],
+        ),
+        session(
+            day(6),
+            "16:30",
+            SessionKind::Training,
+            "Top-up conditioning (non-starters)",
+            false,
+            vec![
+                seg("warm-up", 10.0, fraction(0.55)),
+                seg(
+                    "interval runs",
+                    20.0,
+                    Intensity::Running {
+                        speed_kmh: 14.0,
+                        grade_percent: 0.0,
+                    },
+                ),
+                seg("small-sided games", 15.0, activity("football_training")),
             ],
         ),
     ]
@@ -520,9 +539,11 @@ pub async fn load(db: &Db, monday: NaiveDate) -> Result<String, sqlx::Error> {
             )
             .await?;
         }
-        // Match day: the first 11 start; two starters go off at 70 minutes,
-        // five substitutes come on, the rest of the squad does not play, and
-        // one injured player does rehab on the bike instead.
+        // Match day (recorded after the match): eleven start (the first
+        // goalkeeper and players 3-12); two go off at 70 minutes; five
+        // substitutes come on; the others are not in the matchday squad; one
+        // injured player does rehab on the bike instead. Before the minutes
+        // were recorded every selected player was prepared alike.
         if let Some(matchday) = created.iter().find(|s| s.kind == SessionKind::Match) {
             let set = |mode, minutes, portion, segments, note: &str| ParticipationInput {
                 mode,
@@ -553,10 +574,14 @@ pub async fn load(db: &Db, monday: NaiveDate) -> Result<String, sqlx::Error> {
                     ),
                 ),
             ];
-            for (n, i) in (11..16).enumerate() {
+            let substitutes: Vec<usize> = [13usize, 16, 17, 18, 19]
+                .into_iter()
+                .filter(|&i| i < size - 1)
+                .collect();
+            for (n, &i) in substitutes.iter().enumerate() {
                 let minutes = [25.0, 25.0, 15.0, 10.0, 5.0][n];
                 exceptions.push((
-                    (i + 5) % size,
+                    i,
                     set(
                         ParticipationMode::Shortened,
                         Some(minutes),
@@ -566,7 +591,8 @@ pub async fn load(db: &Db, monday: NaiveDate) -> Result<String, sqlx::Error> {
                     ),
                 ));
             }
-            for i in 17..size.min(22) {
+            let selected = |i: usize| i == 0 || (3..=12).contains(&i) || substitutes.contains(&i);
+            for i in (0..size - 1).filter(|&i| !selected(i)) {
                 exceptions.push((
                     i,
                     set(
@@ -603,6 +629,28 @@ pub async fn load(db: &Db, monday: NaiveDate) -> Result<String, sqlx::Error> {
                     ids[i],
                     &Precondition::None,
                     &input,
+                )
+                .await?;
+            }
+        }
+        // The day after the match: a top-up session for the players who did
+        // not start; the starters and the injured player skip it.
+        if let Some(top_up) = created.iter().find(|s| s.title.starts_with("Top-up")) {
+            for i in (0..size).filter(|&i| i == 0 || (3..=12).contains(&i) || i == size - 1) {
+                sessions::put_participation(
+                    db,
+                    DEMO,
+                    team.id,
+                    top_up.id,
+                    ids[i],
+                    &Precondition::None,
+                    &ParticipationInput {
+                        mode: ParticipationMode::Skipped,
+                        minutes: None,
+                        portion: None,
+                        segments: None,
+                        note: Some("started the match: recovery instead".into()),
+                    },
                 )
                 .await?;
             }

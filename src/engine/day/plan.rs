@@ -33,8 +33,8 @@ use crate::engine::day::session_work::{SessionWork, validate_sessions};
 use crate::engine::day::settings::{DayPins, HealthFlag, PlanSettings};
 use crate::engine::day::targets::{
     CarbohydrateRule, DayLoad, FAT_MIN_SHARE, FAT_USUAL_MAX_SHARE, GramsPerKgRange,
-    KCAL_PER_G_CARBOHYDRATE, KCAL_PER_G_FAT, KCAL_PER_G_PROTEIN, MacroRequest, PROTEIN_RANGE,
-    Upcoming, classify_day, daily_carbohydrate, daily_protein, fit_fat,
+    KCAL_PER_G_CARBOHYDRATE, KCAL_PER_G_FAT, KCAL_PER_G_PROTEIN, LoadBand, MacroRequest,
+    PROTEIN_RANGE, Upcoming, classify_day, daily_carbohydrate, daily_protein, fit_fat,
 };
 use crate::engine::profile::{AthleteProfile, Sex};
 use crate::engine::{InvalidInput, Issues};
@@ -209,7 +209,7 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
     }
 
     // Carbohydrate from the day's fuel demand.
-    let load = classify_day(
+    let mut load = classify_day(
         &input.sessions,
         &input.next_day_sessions,
         mass,
@@ -240,7 +240,16 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
         energy_kcal,
         carbohydrate_g: pins.carbohydrate_g_per_kg.unwrap_or(decision.g_per_kg) * mass,
         carbohydrate_min_g: range.min.min(decision.g_per_kg) * mass,
-        carbohydrate_max_g: range.max.max(decision.g_per_kg) * mass,
+        // Energy left after protein may go to carbohydrate up to the
+        // moderate band's top before fat rises above 35% (fuel rather than fat).
+        carbohydrate_max_g: match decision.rule {
+            CarbohydrateRule::RestDay | CarbohydrateRule::LoadBand => {
+                range.max.max(LoadBand::Moderate.range().max)
+            }
+            _ => range.max,
+        }
+        .max(decision.g_per_kg)
+            * mass,
         protein_g: pins.protein_g_per_kg.unwrap_or(computed_protein) * mass,
         protein_max_g: PROTEIN_RANGE.max.max(computed_protein) * mass,
         carbohydrate_pinned: pins.carbohydrate_g_per_kg.is_some(),
@@ -270,6 +279,9 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
         Some(pin) => pin,
         None => fit.energy_kcal.round(),
     };
+    // The band is a label of the planned value.
+    load.band = LoadBand::of(carbohydrate_g_per_kg);
+    load.band_range = load.band.range();
     let fat_g = round_to(fit.fat_g, 0.1);
     let fat_share = fat_g * KCAL_PER_G_FAT / energy_kcal;
     if fit.energy_added_kcal > 0.5 {

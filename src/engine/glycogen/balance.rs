@@ -57,6 +57,14 @@
 //!      carbohydrate oxidation follows carbohydrate intake; net conversion to fat
 //!      is small, `from memory`).
 //!
+//!    - after a match the muscle ceiling is lower for 48 h, by half after a
+//!      full 90 minutes and in proportion to fewer minutes played: the
+//!      eccentric work of a match damages muscle and slows glycogen
+//!      resynthesis, and thigh glycogen is still below normal 48 h after a
+//!      match despite high carbohydrate intake (Krustrup et al. 2011,
+//!      Gunnarsson et al. 2013, Med Sci Sports Exerc 45:1942; `from memory`;
+//!      the size of the slowing is our calibration).
+//!
 //! With these numbers stores return to about 90% or more of normal within
 //! 24 h of a depleting session on 8-10 g/kg/day and not on 3 g/kg/day, as in
 //! Costill et al. (1981, Am J Clin Nutr 34:1831, `from memory`: about 525-650 g
@@ -101,6 +109,10 @@ pub struct GlycogenModel {
     /// Fraction of normal stores above which the ceilings fall linearly to
     /// zero at full stores (our calibration).
     pub saturation_knee_fraction: f64,
+    /// Share by which a full match slows muscle resynthesis (scaled by the
+    /// minutes played over 90), and for how long after it, hours.
+    pub post_match_resynthesis_slowing: f64,
+    pub post_match_slowing_hours: f64,
 }
 
 impl Default for GlycogenModel {
@@ -116,6 +128,8 @@ impl Default for GlycogenModel {
             muscle_resynthesis_later_mmol_per_kg_hour: 4.5,
             liver_resynthesis_g_per_kg_hour: 0.1,
             saturation_knee_fraction: 0.7,
+            post_match_resynthesis_slowing: 0.5,
+            post_match_slowing_hours: 48.0,
         }
     }
 }
@@ -154,6 +168,9 @@ pub struct Interval {
     pub early_after_session: bool,
     /// The session running, if any.
     pub session: Option<SessionDraw>,
+    /// Multiplier of the muscle resynthesis ceiling, 0-1: below 1 in the
+    /// days after a match (muscle damage slows refilling).
+    pub muscle_resynthesis_factor: f64,
 }
 
 /// Where the carbohydrate went during an interval or a day, grams.
@@ -263,6 +280,7 @@ pub fn advance(
         0.0
     } else {
         (model.muscle_ceiling_g_per_hour(interval.muscle_mass_kg, interval.early_after_session)
+            * interval.muscle_resynthesis_factor.clamp(0.0, 1.0)
             * model.saturation(muscle_g / interval.muscle_capacity_g)
             * hours)
             .min(muscle_room)
@@ -301,6 +319,7 @@ mod tests {
 
     fn rest(hours: f64, early: bool) -> Interval {
         Interval {
+            muscle_resynthesis_factor: 1.0,
             hours,
             body_mass_kg: 70.0,
             muscle_mass_kg: 26.6,

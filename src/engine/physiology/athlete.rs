@@ -34,6 +34,11 @@ pub struct ResolvedAthlete {
     /// Share of a team-sport activity's work this athlete's position does
     /// (1.0 outfield; see [`crate::engine::physiology::intensity`]).
     pub team_sport_work_factor: f64,
+    /// Share of a group prescription's work above rest (heart rate, RPE,
+    /// fraction of VO2max, METs) this athlete does in the session at hand:
+    /// 1.0 except in pitch sessions for a position that does part of the
+    /// work, where the week planner sets it to `team_sport_work_factor`.
+    pub prescription_work_factor: f64,
     /// What was estimated about the athlete (not about any one session).
     pub estimates: Vec<Estimate>,
 }
@@ -254,6 +259,7 @@ pub fn resolve_athlete(profile: &AthleteProfile) -> Result<ResolvedAthlete, Inva
         hr_rest_bpm: profile.hr_rest,
         glycogen_capacity,
         team_sport_work_factor: profile.team_sport_work_factor.unwrap_or(1.0),
+        prescription_work_factor: 1.0,
         estimates,
     })
 }

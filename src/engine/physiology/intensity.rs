@@ -23,8 +23,9 @@
 //!   working at a share of their own capacity, so a fitter player covers more
 //!   ground rather than working "easier". Their MET value is read as a
 //!   fraction of VO2max for a reference player of
-//!   [`TEAM_SPORT_REFERENCE_VO2MAX`] (professional outfield players are about
-//!   55-65 mL/kg/min, Bangsbo et al. 2006, J Sports Sci 24:665, from memory),
+//!   [`TEAM_SPORT_REFERENCE_VO2MAX`], 50 mL/kg/min, so that a competitive
+//!   match (10 METs) is played at about 70% of VO2max on average, as measured
+//!   in elite football (Bangsbo et al. 2006, J Sports Sci 24:665, from memory),
 //!   and the part above rest is scaled by the athlete's
 //!   `team_sport_work_factor` (a goalkeeper covers about half an outfield
 //!   player's distance, Di Salvo et al. 2007, Int J Sports Med 28:222, from
@@ -42,7 +43,7 @@ use crate::engine::{InvalidInput, Issues};
 
 /// VO2max of the reference player behind team-sport MET values, mL/kg/min
 /// (common practice reading of the Compendium for squads; see the module doc).
-pub const TEAM_SPORT_REFERENCE_VO2MAX: f64 = 55.0;
+pub const TEAM_SPORT_REFERENCE_VO2MAX: f64 = 50.0;
 
 /// Oxygen uptake of a segment for one athlete (an estimate).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -250,7 +251,7 @@ pub(crate) fn convert_validated(athlete: &ResolvedAthlete, intensity: &Intensity
                 (
                     RESTING_VO2_ML_PER_KG_MIN + athlete.team_sport_work_factor * above_rest,
                     "compendium_2011_team_sport_relative",
-                    "Compendium of Physical Activities, Ainsworth et al. (2011), read as a share of VO2max for a 55 mL/kg/min player (common practice); position share of the work (Di Salvo et al. 2007, from memory)",
+                    "Compendium of Physical Activities, Ainsworth et al. (2011), read as a share of VO2max for a 50 mL/kg/min player (common practice); position share of the work (Di Salvo et al. 2007, from memory)",
                 )
             } else {
                 (
@@ -284,6 +285,20 @@ pub(crate) fn convert_validated(athlete: &ResolvedAthlete, intensity: &Intensity
     };
     // Never below resting: a heart rate under the resting rate, or RPE 0, is rest.
     let ml_per_kg_min = ml_per_kg_min.max(RESTING_VO2_ML_PER_KG_MIN);
+    // A group prescription (an intensity for the squad) done by a position
+    // that does part of the work; stated external work (speed, power) and
+    // team-sport activities (scaled above) are the athlete's own.
+    let own_work = matches!(
+        intensity,
+        Intensity::Running { .. } | Intensity::Walking { .. } | Intensity::Cycling { .. }
+    ) || matches!(intensity, Intensity::Activity { activity }
+        if activity_by_key(activity).is_some_and(|e| e.group == ActivityGroup::TeamSport));
+    let ml_per_kg_min = if own_work {
+        ml_per_kg_min
+    } else {
+        RESTING_VO2_ML_PER_KG_MIN
+            + athlete.prescription_work_factor * (ml_per_kg_min - RESTING_VO2_ML_PER_KG_MIN)
+    };
     OxygenUptake {
         ml_per_kg_min,
         l_per_min: ml_per_kg_min * athlete.body_mass_kg / 1000.0,

@@ -212,12 +212,27 @@ impl<'a> Planner<'a> {
         index: usize,
         start: Option<GlycogenState>,
     ) -> Result<SessionFuel, InvalidInput> {
-        simulate_session_for(
-            &self.athletes[athlete],
-            &self.input.sessions[index].segments,
-            start,
-        )
-        .map_err(|error| remap(error, |field| format!("sessions[{index}].{field}")))
+        let segments = &self.input.sessions[index].segments;
+        simulate_session_for(&self.for_session(athlete, index), segments, start)
+            .map_err(|error| remap(error, |field| format!("sessions[{index}].{field}")))
+    }
+
+    /// The athlete as they do session `index`: in a pitch session (training
+    /// or match) a position's share of the work applies to the group's
+    /// prescribed intensities too.
+    fn for_session(&self, athlete: usize, index: usize) -> std::borrow::Cow<'_, ResolvedAthlete> {
+        let resolved = &self.athletes[athlete];
+        let pitch = matches!(
+            self.input.sessions[index].kind,
+            SessionKind::Training | SessionKind::Match
+        );
+        if pitch && resolved.team_sport_work_factor != 1.0 {
+            let mut own = resolved.clone();
+            own.prescription_work_factor = resolved.team_sport_work_factor;
+            std::borrow::Cow::Owned(own)
+        } else {
+            std::borrow::Cow::Borrowed(resolved)
+        }
     }
 
     /// The session as it is prepared for (the whole match for a selected
@@ -295,6 +310,7 @@ impl<'a> Planner<'a> {
             last_session_end: None,
             active: None,
             pending_intake: Vec::new(),
+            slowed_until: None,
         };
         let mut start_assumption = None;
 

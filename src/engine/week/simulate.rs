@@ -12,6 +12,8 @@ pub(super) struct Timeline {
     pub(super) active: Option<ActiveSession>,
     /// Eaten at a time not yet reached (a late feed after midnight).
     pub(super) pending_intake: Vec<(NaiveDateTime, f64)>,
+    /// Muscle resynthesis slowed after a match: until when, and by how much.
+    pub(super) slowed_until: Option<(NaiveDateTime, f64)>,
 }
 
 #[derive(Debug, Clone, Copy)]
@@ -141,6 +143,13 @@ impl Planner<'_> {
                         working_share: fuel.total_minutes / session.clock_minutes(),
                     },
                 });
+                if session.kind == SessionKind::Match {
+                    let slowing =
+                        model.post_match_resynthesis_slowing * (fuel.total_minutes / 90.0).min(1.0);
+                    let until = session.end()
+                        + TimeDelta::seconds((model.post_match_slowing_hours * 3600.0) as i64);
+                    timeline.slowed_until = Some((until, slowing));
+                }
                 event = true;
             }
             if event || (now.minute() == 0 && now.second() == 0) {
@@ -163,6 +172,10 @@ impl Planner<'_> {
                         .last_session_end
                         .is_some_and(|end| now >= end && now < end + early),
                 session: timeline.active.map(|active| active.draw),
+                muscle_resynthesis_factor: match timeline.slowed_until {
+                    Some((until, slowing)) if now < until => 1.0 - slowing,
+                    _ => 1.0,
+                },
             };
             let (stores, flows) = advance(model, timeline.stores, &interval);
             timeline.stores = stores;
