@@ -31,7 +31,9 @@ use utoipa::ToSchema;
 
 use crate::engine::Issues;
 use crate::engine::day::notes::{Severity, Warning, WarningCode};
-use crate::engine::day::session_fuelling::{AfterGuidance, SessionFuelling, pre_session_g_per_kg};
+use crate::engine::day::session_fuelling::{
+    AfterGuidance, MAX_OCCASION_CARBOHYDRATE_G_PER_KG, SessionFuelling, pre_session_g_per_kg,
+};
 use crate::engine::day::session_work::{SessionRef, SessionWork, add_hours, hours_between, sorted};
 use crate::engine::day::targets::{KCAL_PER_G_CARBOHYDRATE, KCAL_PER_G_FAT, KCAL_PER_G_PROTEIN};
 
@@ -182,6 +184,8 @@ struct Draft {
     /// For a pre-session occasion: the session start, to size it from its final time.
     pre_session_start: Option<NaiveDateTime>,
     pre_window: Option<(NaiveDateTime, NaiveDateTime)>,
+    /// For an early-session snack: its fixed size, g/kg.
+    snack_g_per_kg: Option<f64>,
     note: String,
 }
 
@@ -204,12 +208,17 @@ impl Draft {
             withheld: false,
             pre_session_start: None,
             pre_window: None,
+            snack_g_per_kg: None,
             note: String::new(),
         }
     }
 
     fn merge_meal(&mut self, meal: &Draft) {
-        self.time = meal.time;
+        // A speedy-refuelling feed keeps its hourly time; anything else moves
+        // to the meal's time.
+        if !(self.kind == OccasionKind::Recovery && self.fixed_carbohydrate.is_some()) {
+            self.time = meal.time;
+        }
         self.also = Some(meal.kind);
         self.protein = true;
         if self.fixed_carbohydrate.is_none() {
@@ -311,7 +320,11 @@ pub fn plan_eating_occasions(
     apply_train_low(&mut drafts, &sessions, wake);
     for draft in &mut drafts {
         if let (Some(start), false) = (draft.pre_session_start, draft.withheld) {
-            let g_per_kg = pre_session_g_per_kg(hours_between(draft.time, start));
+            let g_per_kg = match draft.snack_g_per_kg {
+                Some(snack) => snack,
+                None => pre_session_g_per_kg(hours_between(draft.time, start))
+                    .min(MAX_OCCASION_CARBOHYDRATE_G_PER_KG),
+            };
             draft.fixed_carbohydrate = Some(g_per_kg * body_mass_kg);
             push_note(
                 &mut draft.note,
@@ -323,8 +336,14 @@ pub fn plan_eating_occasions(
         }
     }
     drafts.sort_by_key(|d| (d.time, d.kind == OccasionKind::DuringSession));
+    merge_close_occasions(&mut drafts);
 
-    let carbohydrate = share_carbohydrate(&drafts, totals.carbohydrate_g, &mut warnings);
+    let carbohydrate = share_carbohydrate(
+        &drafts,
+        totals.carbohydrate_g,
+        MAX_OCCASION_CARBOHYDRATE_G_PER_KG * body_mass_kg,
+        &mut warnings,
+    );
     let protein_weights: Vec<f64> = drafts
         .iter()
         .map(|d| if d.protein { 1.0 } else { 0.0 })
@@ -384,17 +403,22 @@ fn session_drafts(sessions: &[&SessionWork], fuelling: &[SessionFuelling]) -> Ve
             withheld: false,
             pre_session_start: None,
             pre_window: None,
+            snack_g_per_kg: None,
             note: String::new(),
         };
         if let Some(time) = plan.before.suggested_time {
             let mut pre = base(OccasionKind::PreSession, time);
             pre.pre_session_start = Some(session.start);
             pre.pre_window = plan.before.window_start.zip(plan.before.window_end);
+            if plan.before.snack {
+                pre.snack_g_per_kg = Some(plan.before.suggested_g_per_kg);
+                pre.pre_window = None;
+            }
             pre.fat_weight = 0.25;
             pre.note = format!("Before '{}'.", session.title);
             drafts.push(pre);
         }
-        if session.minutes >= 45.0 {
+        if session.minutes >= 45.0 && plan.during.planned_g > 0.0 {
             let mut during = base(OccasionKind::DuringSession, session.start);
             during.fixed_carbohydrate = Some(plan.during.planned_g);
             during.note = plan.during.note.clone();
@@ -467,6 +491,49 @@ fn session_drafts(sessions: &[&SessionWork], fuelling: &[SessionFuelling]) -> Ve
     drafts
 }
 
+/// Occasions closer than this are one occasion (common practice: nobody eats
+/// twice in 20 minutes).
+const MIN_MINUTES_BETWEEN_OCCASIONS: i64 = 20;
+
+/// Merges occasions (other than carbohydrate during a session) that fall
+/// within [`MIN_MINUTES_BETWEEN_OCCASIONS`] of each other into the earlier
+/// one; a meal merges into a session occasion and keeps the session's amount.
+fn merge_close_occasions(drafts: &mut Vec<Draft>) {
+    let mut i = 0;
+    while i + 1 < drafts.len() {
+        let (a, b) = (&drafts[i], &drafts[i + 1]);
+        let close = (b.time - a.time).num_minutes() < MIN_MINUTES_BETWEEN_OCCASIONS;
+        let eating = |d: &Draft| d.kind != OccasionKind::DuringSession;
+        if !(close && eating(a) && eating(b)) || a.withheld != b.withheld {
+            i += 1;
+            continue;
+        }
+        let later = drafts.remove(i + 1);
+        let earlier = &mut drafts[i];
+        let is_meal = |d: &Draft| d.session.is_none();
+        if is_meal(&later) {
+            let time = earlier.time;
+            earlier.merge_meal(&later);
+            earlier.time = time;
+        } else if is_meal(earlier) {
+            let meal = earlier.clone();
+            let time = meal.time;
+            *earlier = later;
+            earlier.merge_meal(&meal);
+            earlier.time = time;
+        } else {
+            earlier.fixed_carbohydrate =
+                match (earlier.fixed_carbohydrate, later.fixed_carbohydrate) {
+                    (Some(x), Some(y)) => Some(x + y),
+                    (x, y) => x.or(y),
+                };
+            earlier.protein |= later.protein;
+            earlier.fat_weight = earlier.fat_weight.max(later.fat_weight);
+            push_note(&mut earlier.note, &later.note);
+        }
+    }
+}
+
 /// Moves a meal out of the 2 h before a session and the session itself, to
 /// the nearer side that is after waking and not inside another session.
 fn clear_of_sessions(
@@ -507,13 +574,33 @@ fn merge_into_session_occasion(drafts: &mut [Draft], meal: &Draft) -> bool {
         pre.merge_meal(meal);
         return true;
     }
-    if let Some(recovery) = drafts.iter_mut().find(|d| {
-        d.kind == OccasionKind::Recovery && d.also.is_none() && {
-            let after = hours_between(d.time, meal.time);
-            (0.0..1.0).contains(&after)
-        }
-    }) {
-        recovery.merge_meal(meal);
+    // The nearest speedy-refuelling feed within 45 min, else a recovery
+    // occasion that starts up to an hour before the meal.
+    let nearest_feed = drafts
+        .iter()
+        .enumerate()
+        .filter(|(_, d)| {
+            d.kind == OccasionKind::Recovery
+                && d.also.is_none()
+                && d.fixed_carbohydrate.is_some()
+                && hours_between(d.time, meal.time).abs() <= 0.75
+        })
+        .min_by(|(_, a), (_, b)| {
+            hours_between(a.time, meal.time)
+                .abs()
+                .total_cmp(&hours_between(b.time, meal.time).abs())
+        })
+        .map(|(i, _)| i);
+    let target = nearest_feed.or_else(|| {
+        drafts.iter().position(|d| {
+            d.kind == OccasionKind::Recovery && d.also.is_none() && {
+                let after = hours_between(d.time, meal.time);
+                (0.0..1.0).contains(&after)
+            }
+        })
+    });
+    if let Some(i) = target {
+        drafts[i].merge_meal(meal);
         return true;
     }
     false
@@ -551,7 +638,12 @@ fn apply_train_low(drafts: &mut [Draft], sessions: &[&SessionWork], wake: NaiveD
 }
 
 /// Carbohydrate per draft before rounding; the sum equals `total`.
-fn share_carbohydrate(drafts: &[Draft], total: f64, warnings: &mut Vec<Warning>) -> Vec<f64> {
+fn share_carbohydrate(
+    drafts: &[Draft],
+    total: f64,
+    cap_g: f64,
+    warnings: &mut Vec<Warning>,
+) -> Vec<f64> {
     let fixed: f64 = drafts.iter().filter_map(|d| d.fixed_carbohydrate).sum();
     let flexible_weight: f64 = drafts
         .iter()
@@ -573,13 +665,7 @@ fn share_carbohydrate(drafts: &[Draft], total: f64, warnings: &mut Vec<Warning>)
     }
     let remainder = total - fixed;
     if flexible_weight > 0.0 {
-        return drafts
-            .iter()
-            .map(|d| match d.fixed_carbohydrate {
-                Some(g) => g,
-                None => remainder * d.carbohydrate_weight / flexible_weight,
-            })
-            .collect();
+        return fill_meals(drafts, remainder, cap_g);
     }
     // No meal can take the rest (all withheld): spread it over the occasions
     // that are not withheld, or over all of them as a last resort.
@@ -602,6 +688,52 @@ fn share_carbohydrate(drafts: &[Draft], total: f64, warnings: &mut Vec<Warning>)
             }
         })
         .collect()
+}
+
+/// Shares `remainder` over the flexible meals by weight, holding each to
+/// `cap_g` (what a capped meal cannot take goes to the others); only when
+/// every meal is full does the rest go over the cap, evenly by weight.
+fn fill_meals(drafts: &[Draft], remainder: f64, cap_g: f64) -> Vec<f64> {
+    let mut grams: Vec<f64> = drafts
+        .iter()
+        .map(|d| d.fixed_carbohydrate.unwrap_or(0.0))
+        .collect();
+    let flexible: Vec<usize> = (0..drafts.len())
+        .filter(|&i| drafts[i].fixed_carbohydrate.is_none() && drafts[i].carbohydrate_weight > 0.0)
+        .collect();
+    let mut open = flexible.clone();
+    let mut left = remainder;
+    while left > 1e-9 && !open.is_empty() {
+        let weight: f64 = open.iter().map(|&i| drafts[i].carbohydrate_weight).sum();
+        let mut spent = 0.0;
+        let mut still_open = Vec::new();
+        for &i in &open {
+            let share = left * drafts[i].carbohydrate_weight / weight;
+            let room = (cap_g - grams[i]).max(0.0);
+            let take = share.min(room);
+            grams[i] += take;
+            spent += take;
+            if take < share - 1e-9 {
+                continue;
+            }
+            still_open.push(i);
+        }
+        left -= spent;
+        if still_open.len() == open.len() {
+            break;
+        }
+        open = still_open;
+    }
+    if left > 1e-9 {
+        let weight: f64 = flexible
+            .iter()
+            .map(|&i| drafts[i].carbohydrate_weight)
+            .sum();
+        for &i in &flexible {
+            grams[i] += left * drafts[i].carbohydrate_weight / weight;
+        }
+    }
+    grams
 }
 
 /// Splits `total` in proportion to `weights` into multiples of 0.1 that add

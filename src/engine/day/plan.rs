@@ -165,6 +165,21 @@ pub struct DayPlan {
     pub cautions: Vec<String>,
 }
 
+/// Carbohydrate for the meals that are not session occasions, g/kg.
+const OTHER_MEALS_G_PER_KG: f64 = 1.0;
+
+/// The highest carbohydrate the day may be moved to (energy fill, session
+/// fuelling): the rule's range top, and for work-driven days at least the
+/// moderate band's top, so that energy goes to fuel rather than fat.
+fn range_top(decision: &crate::engine::day::targets::CarbohydrateDecision) -> f64 {
+    match decision.rule {
+        CarbohydrateRule::RestDay | CarbohydrateRule::LoadBand => {
+            decision.range.max.max(LoadBand::Moderate.range().max)
+        }
+        _ => decision.range.max,
+    }
+}
+
 fn round_to(value: f64, step: f64) -> f64 {
     (value / step).round() * step
 }
@@ -226,30 +241,54 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
         body_mass_kg: mass,
     };
     let decision = daily_carbohydrate(&input.sessions, &load, &upcoming);
+    let range = decision.range;
     let computed_protein = daily_protein(
         profile.goal,
         settings.protein_g_per_kg,
         settings.protein_g_per_kg_during_loss,
     );
 
+    // Fuelling around the sessions (before, during, after).
+    let times = &settings.meal_times;
+    let clock = DayClock {
+        wake: input.date.and_time(times.wake),
+        sleep: input.date.and_time(times.sleep),
+    };
+    let (mut session_plans, session_warnings) = plan_session_fuelling(
+        &input.sessions,
+        &input.previous_day_sessions,
+        &input.next_day_sessions,
+        mass,
+        clock,
+    );
+    warnings.extend(session_warnings);
+    // The day holds its session fuelling plus about 0.5 g/kg at each of two
+    // other meals (common practice), within the rule's range.
+    let session_fuelling_g: f64 = session_plans
+        .iter()
+        .map(SessionFuelling::carbohydrate_g)
+        .sum();
+    let fuelling_floor =
+        (session_fuelling_g / mass + OTHER_MEALS_G_PER_KG).min(range_top(&decision));
+    let mut decision = decision;
+    if fuelling_floor > decision.g_per_kg + 1e-9 {
+        decision.text = format!(
+            "{}; raised to {fuelling_floor:.2} g/kg so that the day holds its session fuelling ({session_fuelling_g:.0} g before, during and after the sessions) and about {OTHER_MEALS_G_PER_KG:.1} g/kg for the other meals",
+            decision.text
+        );
+        decision.g_per_kg = fuelling_floor;
+    }
+
     // Macronutrients: fat fills the rest inside 20-35% of energy.
     let pins = &input.pins;
     let energy_pin = pins.energy_kcal;
-    let range = decision.range;
     let request = |energy_kcal: f64, pinned: bool| MacroRequest {
         energy_kcal,
         carbohydrate_g: pins.carbohydrate_g_per_kg.unwrap_or(decision.g_per_kg) * mass,
         carbohydrate_min_g: range.min.min(decision.g_per_kg) * mass,
         // Energy left after protein may go to carbohydrate up to the
         // moderate band's top before fat rises above 35% (fuel rather than fat).
-        carbohydrate_max_g: match decision.rule {
-            CarbohydrateRule::RestDay | CarbohydrateRule::LoadBand => {
-                range.max.max(LoadBand::Moderate.range().max)
-            }
-            _ => range.max,
-        }
-        .max(decision.g_per_kg)
-            * mass,
+        carbohydrate_max_g: range_top(&decision).max(decision.g_per_kg) * mass,
         protein_g: pins.protein_g_per_kg.unwrap_or(computed_protein) * mass,
         protein_max_g: PROTEIN_RANGE.max.max(computed_protein) * mass,
         carbohydrate_pinned: pins.carbohydrate_g_per_kg.is_some(),
@@ -422,20 +461,8 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
         ));
     }
 
-    // Sessions and eating occasions.
+    // Eating occasions.
     let times = &settings.meal_times;
-    let clock = DayClock {
-        wake: input.date.and_time(times.wake),
-        sleep: input.date.and_time(times.sleep),
-    };
-    let (mut session_plans, session_warnings) = plan_session_fuelling(
-        &input.sessions,
-        &input.previous_day_sessions,
-        &input.next_day_sessions,
-        mass,
-        clock,
-    );
-    warnings.extend(session_warnings);
     let occasion_plan = plan_eating_occasions(
         input.date,
         &input.sessions,

@@ -40,7 +40,8 @@ pub const PROTEIN_PER_OCCASION_G_PER_KG: f64 = 0.3;
 
 /// Suggested pre-session carbohydrate for a meal eaten `hours_before` the
 /// start: 1 g/kg per hour, within 1-4 g/kg (common practice pairing of the
-/// statement's 1-4 g/kg with 1-4 h).
+/// statement's 1-4 g/kg with 1-4 h). The planner then holds one occasion to
+/// [`MAX_OCCASION_CARBOHYDRATE_G_PER_KG`].
 pub fn pre_session_g_per_kg(hours_before: f64) -> f64 {
     hours_before.clamp(PRE_SESSION_RANGE.min, PRE_SESSION_RANGE.max)
 }
@@ -109,9 +110,41 @@ pub struct BeforeSession {
     pub suggested_g_per_kg: f64,
     /// Suggested carbohydrate, g.
     pub suggested_g: f64,
+    /// True when the suggestion is a small snack shortly before an early
+    /// session (no 1-4 h window after waking), not a pre-session meal.
+    pub snack: bool,
     /// Plain-language advice with the numbers.
     pub note: String,
 }
+
+impl SessionFuelling {
+    /// Carbohydrate this plan puts before, during and after the session, g.
+    pub fn carbohydrate_g(&self) -> f64 {
+        let before = if self.before.suggested_time.is_some() {
+            self.before.suggested_g
+        } else {
+            0.0
+        };
+        let after = match self.after.guidance {
+            AfterGuidance::SpeedyRefuelling => {
+                self.after.g_per_feed * self.after.feed_times.len() as f64
+            }
+            AfterGuidance::RecoveryMeal => 0.0,
+        };
+        before + self.during.planned_g + after
+    }
+}
+
+/// Largest carbohydrate in one eating occasion, g/kg (common practice: a
+/// large meal carries about 1-2 g/kg; more is split over a meal and a snack).
+pub const MAX_OCCASION_CARBOHYDRATE_G_PER_KG: f64 = 2.0;
+/// A small, easily digested snack 30-60 min before an early session, g/kg
+/// (common practice): 0.5 before sessions over 60 min, 0.3 before shorter ones.
+pub const EARLY_SNACK_G_PER_KG: f64 = 0.5;
+pub const EARLY_SNACK_SHORT_G_PER_KG: f64 = 0.3;
+/// A session starting within this many hours of waking is "early": there is
+/// no time for a pre-session meal (common practice).
+pub const EARLY_SESSION_HOURS_AFTER_WAKING: f64 = 2.0;
 
 /// Carbohydrate during a session.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, ToSchema)]
@@ -193,8 +226,16 @@ pub fn plan_session_fuelling(
 ) -> (Vec<SessionFuelling>, Vec<Warning>) {
     let today = sorted(today);
     let mut warnings = Vec::new();
-    let next_day_first = sorted(next_day).first().map(|s| s.start);
-    if let (Some(last), Some(first)) = (sorted(previous_day).last(), today.first()) {
+    // Speedy refuelling serves a next session that needs glycogen: gym,
+    // recovery and travel do not call for it (common practice).
+    let next_day_first = sorted(next_day)
+        .into_iter()
+        .find(|s| s.needs_glycogen())
+        .map(|s| s.start);
+    if let (Some(last), Some(first)) = (
+        sorted(previous_day).last(),
+        today.iter().find(|s| s.needs_glycogen()),
+    ) {
         let gap = hours_between(last.end(), first.start);
         if gap < SPEEDY_REFUELLING_GAP_HOURS {
             warnings.push(
@@ -219,7 +260,11 @@ pub fn plan_session_fuelling(
         } else {
             None
         };
-        let next_start = today.get(i + 1).map(|s| s.start).or(next_day_first);
+        let next_start = today[i + 1..]
+            .iter()
+            .find(|s| s.needs_glycogen())
+            .map(|s| s.start)
+            .or(next_day_first);
         let before = before_session(session, previous_end, body_mass_kg, clock, &mut warnings);
 
         let (guidance, min, max, planned_rate) = if session.train_low {
@@ -275,11 +320,38 @@ fn before_session(
         suggested_time: None,
         suggested_g_per_kg: 0.0,
         suggested_g: 0.0,
+        snack: false,
         note: "60 min or shorter: no pre-session target; the day's meals cover it.".into(),
     };
     if session.train_low {
         before.withheld_for_train_low = true;
         before.note = "Train-low session: carbohydrate withheld before it, by design.".into();
+        return before;
+    }
+    // An early session (soon after waking, no earlier session that day):
+    // a small snack instead of a meal.
+    let first_of_day = previous_end.is_none_or(|end| end.date() < session.start.date());
+    if first_of_day
+        && session.start >= clock.wake
+        && hours_between(clock.wake, session.start) < EARLY_SESSION_HOURS_AFTER_WAKING
+    {
+        let g_per_kg = if applies {
+            EARLY_SNACK_G_PER_KG
+        } else {
+            EARLY_SNACK_SHORT_G_PER_KG
+        };
+        let time = add_hours(session.start, -0.75).max(clock.wake);
+        before.suggested_time = Some(time);
+        before.window_start = Some(clock.wake);
+        before.window_end = Some(session.start);
+        before.suggested_g_per_kg = g_per_kg;
+        before.suggested_g = g_per_kg * body_mass_kg;
+        before.snack = true;
+        before.note = format!(
+            "Early session ({:.1} h after waking): no time for a pre-session meal; a small, easily digested carbohydrate snack of {g_per_kg:.1} g/kg at {} (common practice), and the day's first meal after it.",
+            hours_between(clock.wake, session.start),
+            time.format("%H:%M")
+        );
         return before;
     }
     if !applies {
@@ -306,7 +378,8 @@ fn before_session(
         return before;
     }
     let suggested = add_hours(session.start, -3.0).clamp(earliest, latest);
-    let g_per_kg = pre_session_g_per_kg(hours_between(suggested, session.start));
+    let g_per_kg = pre_session_g_per_kg(hours_between(suggested, session.start))
+        .min(MAX_OCCASION_CARBOHYDRATE_G_PER_KG);
     before.window_start = Some(earliest);
     before.window_end = Some(latest);
     before.suggested_time = Some(suggested);

@@ -88,6 +88,15 @@ impl SessionWork {
         self.start + TimeDelta::seconds((minutes * 60.0).round() as i64)
     }
 
+    /// Sessions whose quality rests on muscle glycogen (pitch work, matches,
+    /// other conditioning), unlike gym, recovery and travel (common practice).
+    pub fn needs_glycogen(&self) -> bool {
+        matches!(
+            self.kind,
+            SessionKind::Training | SessionKind::Match | SessionKind::Other
+        )
+    }
+
     /// Key sessions and matches are what the day before prepares for.
     pub fn is_key(&self) -> bool {
         self.key_session || self.kind == SessionKind::Match

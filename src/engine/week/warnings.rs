@@ -155,8 +155,16 @@ impl Planner<'_> {
             .map(|&i| &input.sessions[i])
             .collect();
         let in_span = |date: NaiveDate| date >= input.from && date <= input.to;
-        for pair in ordered.windows(2) {
-            let (first, second) = (pair[0], pair[1]);
+        for (k, &first) in ordered.iter().enumerate() {
+            // The next session that needs glycogen (the day planner's rule).
+            let Some(&second) = ordered[k + 1..].iter().find(|s| {
+                matches!(
+                    s.kind,
+                    SessionKind::Training | SessionKind::Match | SessionKind::Other
+                )
+            }) else {
+                continue;
+            };
             if !in_span(first.date) && !in_span(second.date) {
                 continue;
             }
