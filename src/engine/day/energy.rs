@@ -268,6 +268,7 @@ mod tests {
             training_status: TrainingStatus::Trained,
             goal: GoalDirection::Maintain,
             goal_rate_kg_per_week: None,
+            team_sport_work_factor: None,
         }
     }
 

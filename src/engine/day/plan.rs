@@ -169,13 +169,14 @@ pub struct DayPlan {
 const OTHER_MEALS_G_PER_KG: f64 = 1.0;
 
 /// The highest carbohydrate the day may be moved to (energy fill, session
-/// fuelling): the rule's range top, and for work-driven days at least the
-/// moderate band's top, so that energy goes to fuel rather than fat.
+/// fuelling): on work-driven days up to 2 g/kg above what the work calls
+/// for, at least to the moderate band's top (7) and at most 12, so that
+/// energy goes to fuel rather than fat and the cap moves smoothly with the
+/// work (common practice); competition days keep their rule's range.
 fn range_top(decision: &crate::engine::day::targets::CarbohydrateDecision) -> f64 {
     match decision.rule {
-        CarbohydrateRule::RestDay | CarbohydrateRule::LoadBand => {
-            decision.range.max.max(LoadBand::Moderate.range().max)
-        }
+        CarbohydrateRule::RestDay | CarbohydrateRule::LoadBand => (decision.g_per_kg + 2.0)
+            .clamp(LoadBand::Moderate.range().max, LoadBand::VeryHigh.range().max),
         _ => decision.range.max,
     }
 }
@@ -270,6 +271,7 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
         .sum();
     let fuelling_floor =
         (session_fuelling_g / mass + OTHER_MEALS_G_PER_KG).min(range_top(&decision));
+    let from_work_g_per_kg = decision.g_per_kg;
     let mut decision = decision;
     if fuelling_floor > decision.g_per_kg + 1e-9 {
         decision.text = format!(
@@ -535,7 +537,7 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
             g_per_kg: carbohydrate_g_per_kg,
             g: carbohydrate_g,
             computed_g_per_kg: own.carbohydrate_g / mass,
-            from_work_g_per_kg: decision.g_per_kg,
+            from_work_g_per_kg,
             pinned: pins.carbohydrate_g_per_kg.is_some(),
             rule: decision.rule,
             range_g_per_kg: decision.range,

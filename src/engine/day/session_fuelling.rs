@@ -64,22 +64,46 @@ pub enum DuringGuidance {
 
 /// Carbohydrate per hour during a session by its duration, with the planned rate.
 pub fn during_by_duration(minutes: f64) -> (DuringGuidance, f64, f64, f64) {
+    // The planned rate runs continuously through the rows (common practice:
+    // no jump in grams for one more minute): 0 g/h at 45 min, 30 at 75, 60 at
+    // 150 and 90 from 180, each inside its row's published range.
+    let planned = planned_rate_g_per_hour(minutes);
     if minutes < 45.0 {
         (DuringGuidance::NoneNeeded, 0.0, 0.0, 0.0)
     } else if minutes <= 75.0 {
-        // "Small amounts" has no number in the statement: nothing is planned.
-        (DuringGuidance::MouthRinseOrSmallAmounts, 0.0, 0.0, 0.0)
+        // "Small amounts" has no number in the statement: up to 30 g/h.
+        (DuringGuidance::MouthRinseOrSmallAmounts, 0.0, 30.0, planned)
     } else if minutes <= 150.0 {
-        (DuringGuidance::ThirtyToSixtyGramsPerHour, 30.0, 60.0, 45.0)
+        (
+            DuringGuidance::ThirtyToSixtyGramsPerHour,
+            30.0,
+            60.0,
+            planned,
+        )
     } else {
         // The lower edge continues the 30-60 g/h row's top.
         (
             DuringGuidance::UpToNinetyGramsPerHourMultipleTransportable,
             60.0,
             90.0,
-            75.0,
+            planned,
         )
     }
+}
+
+/// Planned carbohydrate during a session of `minutes`, g/h (see above).
+fn planned_rate_g_per_hour(minutes: f64) -> f64 {
+    const POINTS: [(f64, f64); 4] = [(45.0, 0.0), (75.0, 30.0), (150.0, 60.0), (180.0, 90.0)];
+    if minutes <= POINTS[0].0 {
+        return 0.0;
+    }
+    for pair in POINTS.windows(2) {
+        let ((m0, r0), (m1, r1)) = (pair[0], pair[1]);
+        if minutes <= m1 {
+            return r0 + (r1 - r0) * (minutes - m0) / (m1 - m0);
+        }
+    }
+    POINTS[3].1
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, ToSchema)]

@@ -40,7 +40,7 @@
 //! 4. **Resynthesis.** What is absorbed beyond that refills muscle and liver,
 //!    each up to a ceiling, shared in proportion to the two ceilings:
 //!    - muscle: 8 mmol glucosyl units per kg wet muscle per hour in the first
-//!      2 h after a session, 4.5 later. The range 5-10 mmol/kg/h with about
+//!      2 h after a session, 5 later (the low end of the confirmed range). The range 5-10 mmol/kg/h with about
 //!      1.0-1.2 g carbohydrate per kg per hour early after exercise is
 //!      confirmed (Ivy 2004; Alghannam et al. 2018, Nutrients 10:253); that delaying intake by 2 h roughly halves the rate is
 //!      Ivy et al. (1988, J Appl Physiol 64:1480), `from memory`. The ceiling
@@ -125,7 +125,7 @@ impl Default for GlycogenModel {
             liver_share_of_resting_glucose: 0.4,
             muscle_resynthesis_early_mmol_per_kg_hour: 8.0,
             early_resynthesis_hours: 2.0,
-            muscle_resynthesis_later_mmol_per_kg_hour: 4.5,
+            muscle_resynthesis_later_mmol_per_kg_hour: 5.0,
             liver_resynthesis_g_per_kg_hour: 0.1,
             saturation_knee_fraction: 0.7,
             post_match_resynthesis_slowing: 0.5,

@@ -286,6 +286,7 @@ pub(crate) mod tests {
             training_status: TrainingStatus::Trained,
             goal: GoalDirection::Maintain,
             goal_rate_kg_per_week: None,
+            team_sport_work_factor: None,
         }
     }
 

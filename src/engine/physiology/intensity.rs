@@ -425,10 +425,44 @@ mod tests {
                 activity: "football_match".into(),
             },
         );
-        assert!((match_play.ml_per_kg_min - 35.0).abs() < 1e-9);
-        assert!((match_play.fraction_vo2max - 35.0 / 55.0).abs() < 1e-9);
         let mets = vo2(&athlete, Intensity::Mets { mets: 10.0 });
-        assert_eq!(mets.ml_per_kg_min, match_play.ml_per_kg_min);
+        assert!((mets.ml_per_kg_min - 35.0).abs() < 1e-9);
+        // Team-sport play is self-paced: a player of the 50 mL/kg/min
+        // reference works at exactly the Compendium's 10 METs (35 mL/kg/min),
+        // i.e. 70% of VO2max, the mean match intensity of elite football
+        // (Bangsbo et al. 2006, J Sports Sci 24:665, from memory).
+        let mut reference = athlete.clone();
+        reference.vo2max_ml_per_kg_min = 50.0;
+        let play = |a: &ResolvedAthlete| {
+            vo2(
+                a,
+                Intensity::Activity {
+                    activity: "football_match".into(),
+                },
+            )
+        };
+        assert!((play(&reference).ml_per_kg_min - 35.0).abs() < 1e-9);
+        assert!((play(&reference).fraction_vo2max - 0.70).abs() < 1e-9);
+        // A fitter player covers more: same share, more oxygen.
+        assert!((match_play.fraction_vo2max - 0.70).abs() < 0.01);
+        assert!(match_play.ml_per_kg_min > 35.0);
+        // A goalkeeper (half the outfield work above rest, Di Salvo et al.
+        // 2007, from memory): 3.5 + 0.5 x 31.5 = 19.25 mL/kg/min.
+        let mut keeper = reference.clone();
+        keeper.team_sport_work_factor = 0.5;
+        assert!((play(&keeper).ml_per_kg_min - 19.25).abs() < 1e-9);
+        // A group prescription scaled for the keeper; stated running speed is not.
+        keeper.prescription_work_factor = 0.5;
+        let rpe = vo2(&keeper, Intensity::Mets { mets: 10.0 });
+        assert!((rpe.ml_per_kg_min - 19.25).abs() < 1e-9);
+        let run = vo2(
+            &keeper,
+            Intensity::Running {
+                speed_kmh: 10.0,
+                grade_percent: 0.0,
+            },
+        );
+        assert!((run.ml_per_kg_min - 36.83).abs() < 0.01);
     }
 
     #[test]

@@ -640,9 +640,13 @@ mod tests {
     #[test]
     fn match_activity_gives_the_compendium_energy() {
         // Football match 10.0 METs (Compendium 15605, Ainsworth et al. 2011):
-        // 75 kg x 1.5 h x 10 = 1125 kcal, within 5% (kcal per L O2 varies).
+        // 75 kg x 1.5 h x 10 = 1125 kcal, within 5% (kcal per L O2 varies),
+        // for a player of the 50 mL/kg/min team-sport reference.
         let mut profile = trained_profile();
         profile.body_mass_kg = 75.0;
+        profile.vo2max = Some(crate::engine::profile::Vo2maxSource::Measured {
+            ml_per_kg_min: 50.0,
+        });
         let segments = vec![segment(
             90.0,
             Intensity::Activity {

@@ -576,4 +576,6 @@ fn remap(error: InvalidInput, rename: impl Fn(&str) -> String) -> InvalidInput {
 }
 
 #[cfg(test)]
+mod plausibility_tests;
+#[cfg(test)]
 mod tests;
