@@ -5,8 +5,8 @@
 use chrono::TimeDelta;
 
 use crate::engine::day::energy::GoalAdjustment;
+use crate::engine::day::input::DayInput;
 use crate::engine::day::notes::{Severity, Warning, WarningCode};
-use crate::engine::day::plan::DayInput;
 use crate::engine::day::session_work::EventPreparation;
 use crate::engine::day::settings::HealthFlag;
 use crate::engine::day::targets::{DayLoad, LoadBand};

@@ -8,8 +8,8 @@ use crate::engine::day::energy::{
     FatFreeMass, FatFreeMassSource, KCAL_PER_KG_BODY_MASS, RestingMetabolicRateMethod,
 };
 use crate::engine::day::energy_availability::{EnergyAvailabilityBand, ExerciseEnergyBasis};
+use crate::engine::day::input::DayInput;
 use crate::engine::day::notes::{Explanation, TargetRule, Topic};
-use crate::engine::day::plan::DayInput;
 use crate::engine::day::session_fuelling::{
     AfterGuidance, PROTEIN_PER_OCCASION_G_PER_KG, SessionFuelling,
 };

@@ -18,6 +18,7 @@ pub mod cautions;
 pub mod energy;
 pub mod energy_availability;
 pub mod explain;
+pub mod input;
 pub mod notes;
 pub mod occasions;
 pub mod plan;

@@ -24,55 +24,20 @@ use crate::engine::day::energy_availability::{
     EnergyAvailability, EnergyAvailabilityBand, classify, energy_availability,
 };
 use crate::engine::day::explain::{ExplainInput, explanations};
+pub use crate::engine::day::input::DayInput;
 use crate::engine::day::notes::{Explanation, Severity, Warning, WarningCode};
 use crate::engine::day::occasions::{DayTotals, EatingOccasion, plan_eating_occasions};
 use crate::engine::day::session_fuelling::{
     DayClock, PROTEIN_PER_OCCASION_G_PER_KG, SessionFuelling, plan_session_fuelling,
 };
-use crate::engine::day::session_work::{SessionWork, validate_sessions};
-use crate::engine::day::settings::{DayPins, HealthFlag, PlanSettings};
+use crate::engine::day::session_work::validate_sessions;
 use crate::engine::day::targets::{
     CarbohydrateRule, DayLoad, FAT_MIN_SHARE, FAT_USUAL_MAX_SHARE, GramsPerKgRange,
     KCAL_PER_G_CARBOHYDRATE, KCAL_PER_G_FAT, KCAL_PER_G_PROTEIN, LoadBand, MacroRequest,
     PROTEIN_RANGE, Upcoming, classify_day, daily_carbohydrate, daily_protein, fit_fat,
 };
-use crate::engine::profile::{AthleteProfile, Sex};
+use crate::engine::profile::Sex;
 use crate::engine::{InvalidInput, Issues};
-
-/// Everything needed to plan one athlete's day.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, ToSchema)]
-#[serde(deny_unknown_fields)]
-pub struct DayInput {
-    /// The athlete on the planned date.
-    pub profile: AthleteProfile,
-    /// The planned date (local).
-    pub date: NaiveDate,
-    /// This athlete's sessions on the date.
-    #[serde(default)]
-    pub sessions: Vec<SessionWork>,
-    /// Sessions on the next date (key sessions and matches shape today).
-    #[serde(default)]
-    pub next_day_sessions: Vec<SessionWork>,
-    /// Sessions two dates ahead (only for carbohydrate loading's 36-48 h).
-    #[serde(default)]
-    pub day_after_next_sessions: Vec<SessionWork>,
-    /// Sessions on the previous date (for short overnight gaps).
-    #[serde(default)]
-    pub previous_day_sessions: Vec<SessionWork>,
-    /// Settings; omitted fields take their documented defaults.
-    #[serde(default)]
-    pub settings: PlanSettings,
-    /// Working-muscle glycogen missing at the start of the day, g (estimate;
-    /// the week planner passes its simulated state, 0 when not known).
-    #[serde(default)]
-    pub glycogen_to_restore_g: f64,
-    /// The dietitian's pinned values, if any.
-    #[serde(default)]
-    pub pins: DayPins,
-    /// Declared health conditions; each adds a caution.
-    #[serde(default)]
-    pub health_flags: Vec<HealthFlag>,
-}
 
 /// Daily carbohydrate.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, ToSchema)]
@@ -175,8 +140,10 @@ const OTHER_MEALS_G_PER_KG: f64 = 1.0;
 /// work (common practice); competition days keep their rule's range.
 fn range_top(decision: &crate::engine::day::targets::CarbohydrateDecision) -> f64 {
     match decision.rule {
-        CarbohydrateRule::RestDay | CarbohydrateRule::LoadBand => (decision.g_per_kg + 2.0)
-            .clamp(LoadBand::Moderate.range().max, LoadBand::VeryHigh.range().max),
+        CarbohydrateRule::RestDay | CarbohydrateRule::LoadBand => (decision.g_per_kg + 2.0).clamp(
+            LoadBand::Moderate.range().max,
+            LoadBand::VeryHigh.range().max,
+        ),
         _ => decision.range.max,
     }
 }
@@ -634,5 +601,7 @@ fn validate(input: &DayInput) -> Result<(), InvalidInput> {
     issues.finish()
 }
 
+#[cfg(test)]
+mod properties;
 #[cfg(test)]
 mod tests;

@@ -578,4 +578,6 @@ fn remap(error: InvalidInput, rename: impl Fn(&str) -> String) -> InvalidInput {
 #[cfg(test)]
 mod plausibility_tests;
 #[cfg(test)]
+mod properties;
+#[cfg(test)]
 mod tests;

@@ -4,7 +4,6 @@
 //! model's output (fictional athletes), not check values.
 
 use chrono::{NaiveDate, NaiveDateTime};
-use proptest::prelude::*;
 
 use super::*;
 use crate::engine::day::energy::RestingMetabolicRateMethod;
@@ -13,22 +12,25 @@ use crate::engine::day::occasions::OccasionKind;
 use crate::engine::day::session_fuelling::AfterGuidance;
 use crate::engine::day::session_fuelling::DuringGuidance;
 use crate::engine::day::session_work::EventPreparation;
+use crate::engine::day::session_work::SessionWork;
+use crate::engine::day::settings::{DayPins, HealthFlag, PlanSettings};
+use crate::engine::profile::AthleteProfile;
 use crate::engine::profile::GoalDirection;
 use crate::engine::profile::{SessionKind, TrainingStatus};
 
-const DATE: (i32, u32, u32) = (2026, 3, 14);
+pub(super) const DATE: (i32, u32, u32) = (2026, 3, 14);
 
-fn date() -> NaiveDate {
+pub(super) fn date() -> NaiveDate {
     NaiveDate::from_ymd_opt(DATE.0, DATE.1, DATE.2).unwrap()
 }
 
-fn at(day_offset: i64, hour: u32, minute: u32) -> NaiveDateTime {
+pub(super) fn at(day_offset: i64, hour: u32, minute: u32) -> NaiveDateTime {
     (date() + TimeDelta::days(day_offset))
         .and_hms_opt(hour, minute, 0)
         .unwrap()
 }
 
-fn profile(mass: f64) -> AthleteProfile {
+pub(super) fn profile(mass: f64) -> AthleteProfile {
     AthleteProfile {
         sex: Sex::Male,
         age_years: 24.0,
@@ -50,7 +52,7 @@ fn profile(mass: f64) -> AthleteProfile {
 /// 5 kcal per L O2 (Zuntz table, domain brief section 2), resting 1 kcal/kg/h,
 /// carbohydrate share of energy interpolated through the textbook figures
 /// (20% VO2max 40%, 70% 80%, 100% all; common practice), 4 kcal per g.
-fn work(
+pub(super) fn work(
     title: &str,
     kind: SessionKind,
     start: NaiveDateTime,
@@ -83,7 +85,7 @@ fn work(
     }
 }
 
-fn day(mass: f64, sessions: Vec<SessionWork>) -> DayInput {
+pub(super) fn day(mass: f64, sessions: Vec<SessionWork>) -> DayInput {
     DayInput {
         profile: profile(mass),
         date: date(),
@@ -98,7 +100,7 @@ fn day(mass: f64, sessions: Vec<SessionWork>) -> DayInput {
     }
 }
 
-fn training(start_hour: u32, minutes: f64, fraction: f64, mass: f64) -> SessionWork {
+pub(super) fn training(start_hour: u32, minutes: f64, fraction: f64, mass: f64) -> SessionWork {
     work(
         "pitch session",
         SessionKind::Training,
@@ -109,7 +111,7 @@ fn training(start_hour: u32, minutes: f64, fraction: f64, mass: f64) -> SessionW
     )
 }
 
-fn assert_plan_consistent(plan: &DayPlan) {
+pub(super) fn assert_plan_consistent(plan: &DayPlan) {
     let occasions = &plan.eating_occasions;
     let sum = |f: fn(&EatingOccasion) -> f64| occasions.iter().map(f).sum::<f64>();
     assert!((sum(|o| o.carbohydrate_g) - plan.carbohydrate.g).abs() < 1e-6);
@@ -157,12 +159,12 @@ fn assert_plan_consistent(plan: &DayPlan) {
     }
 }
 
-fn carbohydrate(input: &DayInput) -> f64 {
+pub(super) fn carbohydrate(input: &DayInput) -> f64 {
     plan_day(input).unwrap().carbohydrate.g_per_kg
 }
 
 #[test]
-fn canonical_days_fall_inside_the_position_statement_bands() {
+pub(super) fn canonical_days_fall_inside_the_position_statement_bands() {
     // Thomas, Erdman & Burke (2016), J Acad Nutr Diet 116:501, daily carbohydrate by load.
     let m = 72.0;
     let cases: Vec<(&str, Vec<SessionWork>, LoadBand, f64, f64)> = vec![
@@ -236,7 +238,7 @@ fn canonical_days_fall_inside_the_position_statement_bands() {
 }
 
 #[test]
-fn loading_days_are_ten_to_twelve_g_per_kg() {
+pub(super) fn loading_days_are_ten_to_twelve_g_per_kg() {
     // Thomas, Erdman & Burke (2016): carbohydrate loading 10-12 g/kg/24 h for
     // 36-48 h before events over 90 min (from memory).
     let m = 65.0;
@@ -274,7 +276,7 @@ fn loading_days_are_ten_to_twelve_g_per_kg() {
 }
 
 #[test]
-fn loading_for_a_short_event_falls_back_to_fuelling_up() {
+pub(super) fn loading_for_a_short_event_falls_back_to_fuelling_up() {
     // Thomas et al. (2016): loading is for events over 90 min; general fuelling
     // up 7-12 g/kg in the 24 h before shorter events (from memory).
     let m = 65.0;
@@ -299,7 +301,7 @@ fn loading_for_a_short_event_falls_back_to_fuelling_up() {
     );
 }
 
-fn match_week(mass: f64, match_minutes: f64) -> (DayInput, DayInput) {
+pub(super) fn match_week(mass: f64, match_minutes: f64) -> (DayInput, DayInput) {
     // Fictional club, Saturday 15:00 kick-off; Friday a light pre-match session.
     let mut game = work(
         "Saturday league match",
@@ -322,7 +324,7 @@ fn match_week(mass: f64, match_minutes: f64) -> (DayInput, DayInput) {
 }
 
 #[test]
-fn team_sport_match_day_and_the_day_before_are_six_to_eight_g_per_kg() {
+pub(super) fn team_sport_match_day_and_the_day_before_are_six_to_eight_g_per_kg() {
     // Expert group statement on nutrition in elite football (2021): 6-8 g/kg on
     // match day and the day before (from memory).
     let (eve, game_day) = match_week(75.0, 95.0);
@@ -371,12 +373,12 @@ fn team_sport_match_day_and_the_day_before_are_six_to_eight_g_per_kg() {
     assert!((1.0..=4.0 + 1e-9).contains(&g_per_kg), "{g_per_kg}");
 }
 
-fn hours(from: NaiveDateTime, to: NaiveDateTime) -> f64 {
+pub(super) fn hours(from: NaiveDateTime, to: NaiveDateTime) -> f64 {
     (to - from).num_seconds() as f64 / 3600.0
 }
 
 #[test]
-fn protein_and_fat_stay_in_the_published_ranges() {
+pub(super) fn protein_and_fat_stay_in_the_published_ranges() {
     // Thomas et al. (2016): protein 1.2-2.0 g/kg/d [confirmed]; fat at least 20% of energy (from memory).
     let m = 80.0;
     let days = [
@@ -409,7 +411,7 @@ fn protein_and_fat_stay_in_the_published_ranges() {
 }
 
 #[test]
-fn speedy_refuelling_in_the_plan_for_a_double_day() {
+pub(super) fn speedy_refuelling_in_the_plan_for_a_double_day() {
     // Thomas et al. (2016): under 8 h between sessions, 1.0-1.2 g/kg/h for the first 4 h.
     let m = 70.0;
     let plan = plan_day(&day(
@@ -433,7 +435,7 @@ fn speedy_refuelling_in_the_plan_for_a_double_day() {
 }
 
 #[test]
-fn occasions_respect_session_times() {
+pub(super) fn occasions_respect_session_times() {
     let m = 70.0;
     // 13:30 session: lunch at 12:30 would be 1 h before; it moves to 11:30 and
     // becomes the pre-session meal (2 h before, 2 g/kg: 1 g/kg per hour, 1-4).
@@ -467,7 +469,7 @@ fn occasions_respect_session_times() {
 }
 
 #[test]
-fn train_low_withholds_carbohydrate_before_and_warns_before_a_key_session() {
+pub(super) fn train_low_withholds_carbohydrate_before_and_warns_before_a_key_session() {
     let m = 70.0;
     let mut low = training(10, 60.0, 0.6, m);
     low.train_low = true;
@@ -503,7 +505,7 @@ fn train_low_withholds_carbohydrate_before_and_warns_before_a_key_session() {
 }
 
 #[test]
-fn short_gap_between_sessions_is_flagged_in_the_plan() {
+pub(super) fn short_gap_between_sessions_is_flagged_in_the_plan() {
     let m = 70.0;
     let plan = plan_day(&day(
         m,
@@ -519,7 +521,7 @@ fn short_gap_between_sessions_is_flagged_in_the_plan() {
 }
 
 #[test]
-fn low_energy_availability_always_carries_a_caution() {
+pub(super) fn low_energy_availability_always_carries_a_caution() {
     // Loucks & Thuma (2003); Mountjoy et al. (2014, 2018, 2023): under 30 kcal/kg FFM/day is low.
     let m = 70.0;
     let mut input = day(m, vec![training(10, 120.0, 0.7, m)]);
@@ -543,7 +545,7 @@ fn low_energy_availability_always_carries_a_caution() {
 }
 
 #[test]
-fn body_mass_loss_never_silently_plans_low_energy_availability() {
+pub(super) fn body_mass_loss_never_silently_plans_low_energy_availability() {
     // A small woman on a hard day asking for 1 kg/week: the rate is capped at
     // 1% of body mass (common practice) and the deficit is limited at EA 30.
     let m = 58.0;
@@ -565,7 +567,7 @@ fn body_mass_loss_never_silently_plans_low_energy_availability() {
 }
 
 #[test]
-fn pins_are_kept_and_checked_against_the_published_range() {
+pub(super) fn pins_are_kept_and_checked_against_the_published_range() {
     let m = 70.0;
     let mut input = day(m, vec![training(10, 60.0, 0.6, m)]);
     input.pins.carbohydrate_g_per_kg = Some(9.0);
@@ -586,7 +588,7 @@ fn pins_are_kept_and_checked_against_the_published_range() {
 }
 
 #[test]
-fn under_eighteen_and_health_flags_add_cautions() {
+pub(super) fn under_eighteen_and_health_flags_add_cautions() {
     let mut input = day(62.0, vec![]);
     input.profile.age_years = 16.5;
     input.health_flags = vec![HealthFlag::Diabetes, HealthFlag::Diabetes];
@@ -608,7 +610,7 @@ fn under_eighteen_and_health_flags_add_cautions() {
 }
 
 #[test]
-fn estimated_fat_free_mass_is_labelled() {
+pub(super) fn estimated_fat_free_mass_is_labelled() {
     let mut input = day(70.0, vec![]);
     input.profile.body_fat_percent = None;
     let plan = plan_day(&input).unwrap();
@@ -626,189 +628,4 @@ fn estimated_fat_free_mass_is_labelled() {
             .any(|w| w.code == WarningCode::FatFreeMassEstimated)
     );
     assert!(plan.cautions.iter().any(|c| c.contains("estimate")));
-}
-
-#[test]
-fn invalid_input_names_every_offending_field() {
-    let m = 70.0;
-    let mut input = day(
-        m,
-        vec![training(10, 90.0, 0.6, m), training(11, 30.0, 0.6, m)],
-    );
-    input.profile.body_mass_kg = f64::NAN;
-    input.sessions[0].carbohydrate_g = -5.0;
-    input.next_day_sessions = vec![training(10, 60.0, 0.6, m)]; // wrong date
-    input.pins.carbohydrate_g_per_kg = Some(25.0);
-    input.settings.resting_metabolic_rate = RestingMetabolicRateChoice::Cunningham;
-    input.profile.body_fat_percent = None;
-    let error = plan_day(&input).unwrap_err();
-    let fields: Vec<&str> = error.issues.iter().map(|i| i.field.as_str()).collect();
-    for expected in [
-        "profile.body_mass_kg",
-        "sessions[0].carbohydrate_g",
-        "sessions[1].start",
-        "next_day_sessions[0].start",
-        "pins.carbohydrate_g_per_kg",
-        "settings.resting_metabolic_rate",
-    ] {
-        assert!(
-            fields.contains(&expected),
-            "{expected} missing from {fields:?}"
-        );
-    }
-}
-
-#[test]
-fn input_deserialises_with_defaults_and_rejects_unknown_fields() {
-    let json = serde_json::json!({
-        "profile": {
-            "sex": "female", "age_years": 23, "height_cm": 168, "body_mass_kg": 61,
-            "training_status": "trained"
-        },
-        "date": "2026-03-14",
-        "sessions": [{
-            "title": "Saturday match", "kind": "match", "start": "2026-03-14T15:00:00",
-            "minutes": 90, "mean_fraction_vo2max": 0.7, "gross_kcal": 900,
-            "net_kcal": 810, "carbohydrate_g": 190
-        }]
-    });
-    let input: DayInput = serde_json::from_value(json.clone()).unwrap();
-    assert_eq!(input.settings, PlanSettings::default());
-    let plan = plan_day(&input).unwrap();
-    assert_eq!(plan.carbohydrate.rule, CarbohydrateRule::TeamSportMatchDay);
-    serde_json::to_string(&plan).unwrap();
-    let mut bad = json;
-    bad["settings"] = serde_json::json!({ "activity": 1.5 });
-    assert!(serde_json::from_value::<DayInput>(bad).is_err());
-}
-
-fn session_strategy() -> impl Strategy<Value = (f64, f64)> {
-    (10.0f64..240.0, 0.2f64..0.95)
-}
-
-proptest! {
-    // "Fuel for the work required" (Thomas et al. 2016): more work never lowers the day's carbohydrate.
-    #[test]
-    fn more_work_never_lowers_carbohydrate(
-        mass in 50.0f64..100.0,
-        sessions in prop::collection::vec(session_strategy(), 0..3),
-        grow in 0usize..3,
-        extra_minutes in 0.0f64..120.0,
-        extra_fraction in 0.0f64..0.3,
-        add_session in any::<bool>(),
-        tomorrow in 0u8..4,
-    ) {
-        let starts = [6, 11, 16];
-        let build = |list: &[(f64, f64)]| {
-            let mut input = day(mass, list.iter().enumerate()
-                .map(|(i, &(min, f))| training(starts[i], min, f, mass)).collect());
-            let mut next = work("tomorrow", SessionKind::Training, at(1, 15, 0), 95.0, 0.72, mass);
-            match tomorrow {
-                0 => {}
-                1 => { next.kind = SessionKind::Match; }
-                2 => { next.key_session = true; }
-                _ => { next.event_preparation = EventPreparation::CarbohydrateLoading; next.minutes = 150.0; }
-            }
-            if tomorrow > 0 { input.next_day_sessions = vec![next]; }
-            input
-        };
-        let work = |input: &DayInput| plan_day(input).unwrap().carbohydrate.from_work_g_per_kg;
-        let before = work(&build(&sessions));
-        // The planned value holds the work's carbohydrate at least (session
-        // fuelling may add to it: hourly feeds between close sessions).
-        prop_assert!(carbohydrate(&build(&sessions)) >= before - 1e-9);
-        let mut more = sessions.clone();
-        if let Some(s) = more.get_mut(grow) {
-            s.0 = (s.0 + extra_minutes).min(240.0);
-            s.1 = (s.1 + extra_fraction).min(0.95);
-        }
-        if add_session && more.len() < 3 {
-            more.push((60.0, 0.6));
-        }
-        let after = work(&build(&more));
-        prop_assert!(after >= before - 1e-9, "before {before}, after {after}");
-    }
-
-    // Dietitian pins are always returned exactly as pinned.
-    #[test]
-    fn pins_are_returned_as_pinned(
-        mass in 45.0f64..120.0,
-        carbohydrate_pin in 0.0f64..20.0,
-        protein_pin in 0.5f64..4.0,
-        energy_pin in 500.0f64..10_000.0,
-        minutes in 20.0f64..240.0,
-    ) {
-        let mut input = day(mass, vec![training(10, minutes, 0.65, mass)]);
-        input.pins = DayPins {
-            carbohydrate_g_per_kg: Some(carbohydrate_pin),
-            protein_g_per_kg: Some(protein_pin),
-            energy_kcal: Some(energy_pin),
-        };
-        let plan = plan_day(&input).unwrap();
-        prop_assert_eq!(plan.carbohydrate.g_per_kg, carbohydrate_pin);
-        prop_assert_eq!(plan.protein.g_per_kg, protein_pin);
-        prop_assert_eq!(plan.energy.kcal, energy_pin);
-        prop_assert!(plan.carbohydrate.computed_g_per_kg.is_finite());
-        assert_plan_consistent(&plan);
-    }
-
-    // Occasions add up to the day's targets and nothing is NaN, for any valid day.
-    #[test]
-    fn occasions_sum_to_targets_and_no_nan(
-        mass in 40.0f64..100.0,
-        sessions in prop::collection::vec((session_strategy(), any::<bool>(), any::<bool>()), 0..3),
-        starts in prop::collection::vec(5u32..20, 3),
-        goal in 0u8..3,
-        fat_known in any::<bool>(),
-        wake in 5u32..8,
-    ) {
-        let mut list: Vec<SessionWork> = Vec::new();
-        let mut hours: Vec<u32> = starts.clone();
-        hours.sort_unstable();
-        for (i, ((minutes, fraction), train_low, key)) in sessions.iter().enumerate() {
-            let mut s = training(hours[i], *minutes, *fraction, mass);
-            s.train_low = *train_low;
-            s.key_session = *key;
-            list.push(s);
-        }
-        // Drop sessions that overlap the previous one (invalid input by design).
-        let mut kept: Vec<SessionWork> = Vec::new();
-        for s in list {
-            if kept.last().is_none_or(|p: &SessionWork| s.start >= p.end()) {
-                kept.push(s);
-            }
-        }
-        let mut input = day(mass, kept);
-        input.profile.goal = [GoalDirection::Maintain, GoalDirection::Reduce, GoalDirection::Gain][goal as usize];
-        if !fat_known { input.profile.body_fat_percent = None; }
-        input.settings.meal_times.wake = chrono::NaiveTime::from_hms_opt(wake, 0, 0).unwrap();
-        let plan = plan_day(&input).unwrap();
-        assert_plan_consistent(&plan);
-        prop_assert!((1.2..=2.0).contains(&plan.protein.g_per_kg));
-        prop_assert!(plan.fat.percent_of_energy >= 20.0 - 0.1);
-    }
-}
-
-#[test]
-fn schemas_build_for_the_api() {
-    use utoipa::OpenApi;
-    #[derive(OpenApi)]
-    #[openapi(components(schemas(
-        DayInput,
-        DayPlan,
-        crate::engine::hydration::SweatRateInput,
-        crate::engine::hydration::SweatRate
-    )))]
-    struct Doc;
-    let json = serde_json::to_value(Doc::openapi()).unwrap();
-    let schemas = &json["components"]["schemas"];
-    for name in ["DayInput", "DayPlan", "SweatRateInput", "SweatRate"] {
-        assert!(schemas[name].is_object(), "{name} missing");
-    }
-    // Field doc comments reach the document.
-    assert!(
-        schemas["DayPlan"]["properties"]["cautions"]["description"]
-            .as_str()
-            .is_some_and(|d| d.contains("always present"))
-    );
 }
