@@ -515,7 +515,41 @@ pub struct TeamSummary {
     pub unplanned: Vec<Unplanned>,
     /// Every week-level warning, with its cause and fix.
     pub warnings: Vec<WeekWarning>,
+    /// Warnings about an athlete rather than a day (under 18, a health
+    /// condition, a capped goal rate, estimated fat-free mass, energy
+    /// availability reduced by a planned deficit), once per athlete with the
+    /// dates they apply to.
+    pub athlete_warnings: Vec<SummaryAthleteWarning>,
     pub cautions: Vec<String>,
+}
+
+/// One athlete-level warning in the squad summary.
+#[derive(Debug, Serialize, ToSchema)]
+pub struct SummaryAthleteWarning {
+    pub athlete_id: Uuid,
+    pub display_name: String,
+    pub code: crate::engine::day::notes::WarningCode,
+    pub severity: Severity,
+    pub message: String,
+    /// Dates in the span it applies to.
+    pub dates: Vec<NaiveDate>,
+}
+
+fn athlete_warnings(weeks: &[AthleteWeek]) -> Vec<SummaryAthleteWarning> {
+    weeks
+        .iter()
+        .filter_map(|w| w.plan.as_ref().ok().map(|p| (w, p)))
+        .flat_map(|(w, p)| {
+            p.athlete_warnings.iter().map(|warning| SummaryAthleteWarning {
+                athlete_id: w.athlete.id,
+                display_name: w.athlete.display_name.clone(),
+                code: warning.code,
+                severity: warning.severity,
+                message: warning.message.clone(),
+                dates: warning.dates.clone(),
+            })
+        })
+        .collect()
 }
 
 #[derive(Debug, Serialize, ToSchema)]
@@ -574,6 +608,7 @@ async fn team_summary(
             .filter_map(|w| w.plan.as_ref().ok())
             .flat_map(|p| p.warnings.iter().cloned())
             .collect(),
+        athlete_warnings: athlete_warnings(&weeks),
         cautions: planner::general_cautions(),
     };
     store_and_respond(&state, &etag, &body)

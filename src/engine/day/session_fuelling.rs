@@ -257,7 +257,7 @@ pub fn plan_session_fuelling(
         .find(|s| s.needs_glycogen())
         .map(|s| s.start);
     if let (Some(last), Some(first)) = (
-        sorted(previous_day).last(),
+        sorted(previous_day).last().filter(|s| s.needs_glycogen()),
         today.iter().find(|s| s.needs_glycogen()),
     ) {
         let gap = hours_between(last.end(), first.start);
@@ -284,11 +284,16 @@ pub fn plan_session_fuelling(
         } else {
             None
         };
-        let next_start = today[i + 1..]
-            .iter()
-            .find(|s| s.needs_glycogen())
-            .map(|s| s.start)
-            .or(next_day_first);
+        // Only a session that drew on glycogen needs refilling for the next.
+        let next_start = if session.needs_glycogen() {
+            today[i + 1..]
+                .iter()
+                .find(|s| s.needs_glycogen())
+                .map(|s| s.start)
+                .or(next_day_first)
+        } else {
+            None
+        };
         let before = before_session(session, previous_end, body_mass_kg, clock, &mut warnings);
 
         let (guidance, min, max, planned_rate) = if session.train_low {

@@ -155,14 +155,18 @@ impl Planner<'_> {
             .map(|&i| &input.sessions[i])
             .collect();
         let in_span = |date: NaiveDate| date >= input.from && date <= input.to;
+        let demanding = |s: &PlannedSession| {
+            matches!(
+                s.kind,
+                SessionKind::Training | SessionKind::Match | SessionKind::Other
+            )
+        };
         for (k, &first) in ordered.iter().enumerate() {
+            if !demanding(first) {
+                continue;
+            }
             // The next session that needs glycogen (the day planner's rule).
-            let Some(&second) = ordered[k + 1..].iter().find(|s| {
-                matches!(
-                    s.kind,
-                    SessionKind::Training | SessionKind::Match | SessionKind::Other
-                )
-            }) else {
+            let Some(&second) = ordered[k + 1..].iter().find(|s| demanding(s)) else {
                 continue;
             };
             if !in_span(first.date) && !in_span(second.date) {
