@@ -4,33 +4,23 @@
 //! the database, HTTP, the clock or any other I/O, so every function here can
 //! be tested against published values and benchmarked on its own.
 //!
-//! Guided tour:
+//! Guided tour, one folder per concept (dependencies point down the list's
+//! arrows only; `scripts/engine-shape.py` checks there are no circles):
 //! - [`profile`]: the athlete and session inputs the engine understands.
-//! - [`gas_exchange`]: Weir, the Zuntz/Lusk NPRQ table, Frayn and Jeukendrup &
-//!   Wallis substrate equations, energy densities.
-//! - [`catalogue`]: the activity catalogue with Compendium codes and METs.
-//! - [`athlete`]: a profile resolved into VO2max, HRmax and glycogen capacity,
-//!   with the estimates used to fill the gaps.
-//! - [`intensity`]: every intensity form converted to oxygen uptake.
-//! - [`fuel_mix`]: the carbohydrate share of energy by intensity, time,
-//!   training status and muscle glycogen; the science is documented there.
-//! - [`glycogen`]: glycogen capacity and the state a session starts and ends in.
-//! - [`session`]: one athlete's session simulated minute by minute.
-//! - [`day_plan`]: one athlete's day, [`day_plan::plan_day`]: daily targets,
-//!   fuelling around sessions, eating occasions, warnings and cautions.
-//! - [`session_work`]: a session's already computed work, as the day planner reads it.
-//! - [`energy`]: resting metabolic rate, fat-free mass, body-mass goal.
-//! - [`energy_availability`]: energy availability and its bands.
-//! - [`day_targets`]: load bands, daily carbohydrate, protein and fat.
-//! - [`session_fuelling`]: before, during and after each session.
-//! - [`eating_occasions`]: the day's targets as a timeline of eating occasions.
-//! - [`plan_notes`]: warnings with stable codes, and explanations.
-//! - [`hydration`]: sweat-rate calculator, [`hydration::sweat_rate`].
-//! - [`glycogen_balance`]: how eaten carbohydrate refills muscle and liver
-//!   glycogen and how the liver runs down at rest; the science is documented there.
-//! - [`week`]: one athlete over a span of days, [`week::plan_week`]: sessions
-//!   simulated from the glycogen carried from day to day, daily plans, an
-//!   hourly glycogen series and the warnings a dietitian acts on.
+//! - [`physiology`] -> [`glycogen`]: who the athlete is (VO2max, HRmax,
+//!   working-muscle glycogen capacity), every intensity form as oxygen
+//!   uptake, the fuel mix, and one session simulated minute by minute.
+//! - [`glycogen`]: capacity of the working muscles and liver, and how eaten
+//!   carbohydrate refills them between sessions.
+//! - [`day`]: one athlete's day from its session work: the energy budget,
+//!   the work-driven daily carbohydrate (one smooth curve through the
+//!   position stand's bands), protein and fat, fuelling around sessions,
+//!   eating occasions, warnings, explanations and cautions.
+//! - [`week`] -> [`day`], [`physiology`], [`glycogen`]: one athlete over a
+//!   span, with glycogen carried over from the week before, the day loop, the
+//!   glycogen simulation and the warnings a dietitian acts on.
+//! - [`hydration`]: the sweat-rate calculator.
+//! - [`estimate`] and [`sources`]: what was estimated, and shared citations.
 
 pub mod day;
 pub mod estimate;

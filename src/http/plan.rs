@@ -540,14 +540,16 @@ fn athlete_warnings(weeks: &[AthleteWeek]) -> Vec<SummaryAthleteWarning> {
         .iter()
         .filter_map(|w| w.plan.as_ref().ok().map(|p| (w, p)))
         .flat_map(|(w, p)| {
-            p.athlete_warnings.iter().map(|warning| SummaryAthleteWarning {
-                athlete_id: w.athlete.id,
-                display_name: w.athlete.display_name.clone(),
-                code: warning.code,
-                severity: warning.severity,
-                message: warning.message.clone(),
-                dates: warning.dates.clone(),
-            })
+            p.athlete_warnings
+                .iter()
+                .map(|warning| SummaryAthleteWarning {
+                    athlete_id: w.athlete.id,
+                    display_name: w.athlete.display_name.clone(),
+                    code: warning.code,
+                    severity: warning.severity,
+                    message: warning.message.clone(),
+                    dates: warning.dates.clone(),
+                })
         })
         .collect()
 }
