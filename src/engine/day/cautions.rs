@@ -92,7 +92,7 @@ pub(crate) fn safety_notes(
         ));
         cautions.push("The athlete is under 18: adult targets do not simply apply and growth needs energy. Plan with a registered dietitian and a physician, involve parents or guardians as local rules require, and do not plan body-mass loss without them.".into());
     }
-    if input.profile.goal == GoalDirection::Reduce {
+    if input.profile.goal == GoalDirection::Reduce && !goal.withheld_under_18 {
         cautions.push(format!(
             "Planned body-mass loss of {:.2} kg/week: keep it at or under about 0.5-1% of body mass per week (common practice), under a registered dietitian's supervision, and watch for signs of low energy availability.",
             goal.applied_kg_per_week

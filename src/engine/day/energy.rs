@@ -218,6 +218,9 @@ pub struct GoalAdjustment {
     pub kcal_per_day: f64,
     /// True when the requested rate was above the safe cap.
     pub capped: bool,
+    /// True when a body-mass loss goal was not applied because the athlete
+    /// is under 18 (growth needs energy; loss is for the clinical team).
+    pub withheld_under_18: bool,
 }
 
 /// Goal adjustment, capped at `max_percent_per_week` of body mass.
@@ -225,7 +228,9 @@ pub struct GoalAdjustment {
 pub fn goal_adjustment(profile: &AthleteProfile, max_percent_per_week: f64) -> GoalAdjustment {
     let cap_kg = profile.body_mass_kg * max_percent_per_week / 100.0;
     let requested = profile.goal_rate_kg_per_week;
+    let withheld_under_18 = profile.goal == GoalDirection::Reduce && profile.age_years < 18.0;
     let (applied, capped) = match profile.goal {
+        _ if withheld_under_18 => (0.0, false),
         GoalDirection::Maintain => (0.0, false),
         GoalDirection::Reduce | GoalDirection::Gain => {
             let wanted = requested.unwrap_or(cap_kg / 2.0);
@@ -246,6 +251,7 @@ pub fn goal_adjustment(profile: &AthleteProfile, max_percent_per_week: f64) -> G
         applied_kg_per_week: applied,
         kcal_per_day: sign * applied * KCAL_PER_KG_BODY_MASS / 7.0,
         capped,
+        withheld_under_18,
     }
 }
 

@@ -33,6 +33,8 @@ pub enum WarningCode {
     HealthCondition,
     /// Fat-free mass was estimated, not measured.
     FatFreeMassEstimated,
+    /// A body-mass loss goal for an athlete under 18 was not applied.
+    BodyMassLossNotPlannedUnder18,
     /// The requested body-mass change is faster than the safe rate; the rate was capped.
     GoalRateAboveSafe,
     /// The energy deficit for body-mass loss was reduced to keep energy availability out of the low band.

@@ -178,6 +178,13 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
             ),
         ));
     }
+    if goal.withheld_under_18 {
+        warnings.push(Warning::new(
+            WarningCode::BodyMassLossNotPlannedUnder18,
+            Severity::Safety,
+            "A body-mass loss goal is set for an athlete under 18: no deficit is planned. Growth needs energy; any body-mass change is for a registered dietitian and a physician, with parents or guardians as local rules require.",
+        ));
+    }
     if goal.capped {
         warnings.push(Warning::new(
             WarningCode::GoalRateAboveSafe,

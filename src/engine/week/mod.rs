@@ -519,7 +519,8 @@ impl<'a> Planner<'a> {
 
 /// Day-plan warnings that are about the athlete, not the day: moved out of
 /// each day into one entry per code for the span.
-const ATHLETE_LEVEL: [WarningCode; 5] = [
+const ATHLETE_LEVEL: [WarningCode; 6] = [
+    WarningCode::BodyMassLossNotPlannedUnder18,
     WarningCode::FatFreeMassEstimated,
     WarningCode::UnderEighteen,
     WarningCode::HealthCondition,

@@ -567,6 +567,24 @@ fn eating_occasions_are_ones_a_dietitian_would_hand_out() {
 }
 
 #[test]
+fn no_body_mass_loss_is_planned_for_an_athlete_under_18() {
+    // Safety (the brief's cautions; common practice): growth needs energy, and
+    // body-mass loss for a minor is for the clinical team, not the planner.
+    let mut profile = player(62.0, 2000.0);
+    profile.age_years = 16.5;
+    profile.goal = GoalDirection::Reduce;
+    profile.goal_rate_kg_per_week = Some(0.4);
+    let plan = plan_week(&week(profile, football_week())).unwrap();
+    for d in &plan.days {
+        assert_eq!(d.plan.energy.budget.goal.kcal_per_day, 0.0);
+    }
+    let codes: Vec<_> = plan.athlete_warnings.iter().map(|w| w.code).collect();
+    assert!(codes.contains(&WarningCode::BodyMassLossNotPlannedUnder18));
+    assert!(codes.contains(&WarningCode::UnderEighteen));
+    assert!(plan.cautions.iter().any(|c| c.contains("under 18")));
+}
+
+#[test]
 fn an_athlete_in_energy_balance_is_not_flagged_by_the_plan_itself() {
     // The plan meets its own thresholds: planned intake for a maintenance
     // goal never lands in the reduced band (Loucks & Thuma 2003; male edge
