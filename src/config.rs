@@ -14,6 +14,10 @@ pub enum LogFormat {
     Json,
 }
 
+/// The database file used when none is given, by `serve` and by every
+/// maintenance command alike.
+pub const DEFAULT_DATABASE: &str = "./glycoweek.db";
+
 /// Settings of a running service.
 #[derive(Debug, Clone, Args)]
 pub struct Config {
@@ -21,7 +25,7 @@ pub struct Config {
     #[arg(long, env = "GLYCOWEEK_LISTEN", default_value = "127.0.0.1:8080")]
     pub listen: SocketAddr,
     /// SQLite database file (created if missing).
-    #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = "./glycoweek.db")]
+    #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = DEFAULT_DATABASE)]
     pub database: PathBuf,
     /// Log format.
     #[arg(long, env = "GLYCOWEEK_LOG_FORMAT", value_enum, default_value_t = LogFormat::Text)]

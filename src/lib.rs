@@ -109,25 +109,7 @@ pub fn build_app(state: AppState) -> Router {
     if config.ceiling_endpoint {
         api = api.route("/v1/ceiling", axum::routing::get(http::ceiling));
     }
-    let router = api
-        .with_state(state)
-        .merge(docs)
-        .layer(SetResponseHeaderLayer::if_not_present(
-            header::X_CONTENT_TYPE_OPTIONS,
-            HeaderValue::from_static("nosniff"),
-        ))
-        .layer(SetResponseHeaderLayer::if_not_present(
-            header::X_FRAME_OPTIONS,
-            HeaderValue::from_static("DENY"),
-        ))
-        .layer(SetResponseHeaderLayer::if_not_present(
-            header::REFERRER_POLICY,
-            HeaderValue::from_static("no-referrer"),
-        ))
-        .layer(SetResponseHeaderLayer::if_not_present(
-            header::CACHE_CONTROL,
-            HeaderValue::from_static("no-store"),
-        ));
+    let router = api.with_state(state).merge(docs);
     let router = match cors {
         Some(cors) => router.layer(cors),
         None => router,
@@ -152,6 +134,24 @@ pub fn build_app(state: AppState) -> Router {
         ))
         .layer(CatchPanicLayer::new())
         .layer(axum::middleware::from_fn(http::middleware::problems))
+        // Security headers outside every layer that can answer by itself
+        // (body limit, timeout, panics), so those answers carry them too.
+        .layer(SetResponseHeaderLayer::if_not_present(
+            header::X_CONTENT_TYPE_OPTIONS,
+            HeaderValue::from_static("nosniff"),
+        ))
+        .layer(SetResponseHeaderLayer::if_not_present(
+            header::X_FRAME_OPTIONS,
+            HeaderValue::from_static("DENY"),
+        ))
+        .layer(SetResponseHeaderLayer::if_not_present(
+            header::REFERRER_POLICY,
+            HeaderValue::from_static("no-referrer"),
+        ))
+        .layer(SetResponseHeaderLayer::if_not_present(
+            header::CACHE_CONTROL,
+            HeaderValue::from_static("no-store"),
+        ))
         // Outside the problem rewriter, which must read bodies uncompressed.
         .layer(CompressionLayer::new().gzip(true))
         .layer(

@@ -6,7 +6,7 @@ use std::path::PathBuf;
 use std::process::ExitCode;
 
 use clap::{Parser, Subcommand};
-use glycoweek::config::{Config, LogFormat};
+use glycoweek::config::{Config, DEFAULT_DATABASE, LogFormat};
 use glycoweek::domain::token::{Role, TokenInput};
 use glycoweek::store::{Db, audit::Actor, tokens};
 use glycoweek::{AppState, demo};
@@ -60,7 +60,7 @@ enum Command {
     },
     /// Write a consistent copy of a live database.
     Backup {
-        #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = "./glycoweek.db")]
+        #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = DEFAULT_DATABASE)]
         database: PathBuf,
         /// Destination file (must not exist).
         #[arg(long)]
@@ -72,7 +72,7 @@ enum Command {
 enum TokenCommand {
     /// Create a token and print its secret alone on standard output.
     Create {
-        #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = "./glycoweek.db")]
+        #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = DEFAULT_DATABASE)]
         database: PathBuf,
         #[arg(long, value_enum)]
         role: Role,
@@ -84,13 +84,13 @@ enum TokenCommand {
     },
     /// Revoke a token by id; it stops working at once.
     Revoke {
-        #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = "./glycoweek.db")]
+        #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = DEFAULT_DATABASE)]
         database: PathBuf,
         token_id: Uuid,
     },
     /// List tokens (ids, roles, teams; never secrets).
     List {
-        #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = "./glycoweek.db")]
+        #[arg(long, env = "GLYCOWEEK_DATABASE", default_value = DEFAULT_DATABASE)]
         database: PathBuf,
     },
 }
@@ -192,6 +192,20 @@ async fn serve(args: ServeArgs) -> Result<(), String> {
     Ok(())
 }
 
+/// Opens the database of a running (or stopped) service for maintenance.
+/// Unlike `serve`, it never creates one: a token written into a new, empty
+/// file would be unknown to the service, which reads another database.
+async fn open_existing(database: &std::path::Path) -> Result<Db, String> {
+    if !database.exists() {
+        return Err(format!(
+            "no database at {}: nothing was created. Give the database the service uses \
+             with --database (or GLYCOWEEK_DATABASE); `serve` creates it at first start.",
+            database.display()
+        ));
+    }
+    open(database).await
+}
+
 async fn token(cmd: TokenCommand) -> Result<(), String> {
     match cmd {
         TokenCommand::Create {
@@ -200,7 +214,7 @@ async fn token(cmd: TokenCommand) -> Result<(), String> {
             team,
             label,
         } => {
-            let db = open(&database).await?;
+            let db = open_existing(&database).await?;
             let input = TokenInput {
                 label,
                 role,
@@ -227,7 +241,7 @@ async fn token(cmd: TokenCommand) -> Result<(), String> {
             Ok(())
         }
         TokenCommand::Revoke { database, token_id } => {
-            let db = open(&database).await?;
+            let db = open_existing(&database).await?;
             match tokens::revoke(&db, CLI, token_id)
                 .await
                 .map_err(|e| e.to_string())?
@@ -241,7 +255,7 @@ async fn token(cmd: TokenCommand) -> Result<(), String> {
             }
         }
         TokenCommand::List { database } => {
-            let db = open(&database).await?;
+            let db = open_existing(&database).await?;
             let list = tokens::list(&db, None, None, 10_000)
                 .await
                 .map_err(|e| e.to_string())?;

@@ -126,7 +126,7 @@ impl AthleteInput {
             check_text(&mut issues, "position_group", p, 1, 60);
         }
         if let Some(n) = &self.dietary_notes {
-            check_text(&mut issues, "dietary_notes", n, 0, 2000);
+            super::check_note(&mut issues, "dietary_notes", n, 0, 2000);
         }
         match (self.goal, self.goal_rate_kg_per_week) {
             (GoalDirection::Maintain, Some(r)) if r != 0.0 => issues.push(
@@ -162,8 +162,11 @@ impl AthleteInput {
                 {
                     issues.push("fat_free_mass_kg", "must be lower than the body mass");
                 }
-                if m.measured_on.is_some_and(|d| d > today) {
-                    issues.push("initial_body_mass.measured_on", "must not be in the future");
+                if let Some(d) = m.measured_on {
+                    super::check_date(&mut issues, "initial_body_mass.measured_on", d);
+                    if d > today {
+                        issues.push("initial_body_mass.measured_on", "must not be in the future");
+                    }
                 }
             }
             (None, false) => {}
@@ -315,11 +318,12 @@ impl BodyMassInput {
             BODY_MASS_RANGE_KG.1,
             "kg",
         );
+        super::check_date(&mut issues, "measured_on", self.measured_on);
         if self.measured_on > today {
             issues.push("measured_on", "must not be in the future");
         }
         if let Some(n) = &self.note {
-            check_text(&mut issues, "note", n, 0, 500);
+            super::check_note(&mut issues, "note", n, 0, 500);
         }
         issues.finish()
     }

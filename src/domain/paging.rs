@@ -11,7 +11,8 @@ use crate::error::ApiError;
 pub const DEFAULT_LIMIT: u32 = 50;
 pub const MAX_LIMIT: u32 = 200;
 
-#[derive(Debug, Clone, Deserialize, IntoParams)]
+#[derive(Debug, Clone, Default, Deserialize, IntoParams)]
+#[serde(deny_unknown_fields)]
 #[into_params(parameter_in = Query)]
 pub struct PageParams {
     /// Items per page, 1 to 200 (default 50).
@@ -48,12 +49,13 @@ pub fn encode_cursor<K: Serialize>(key: &K) -> String {
     URL_SAFE_NO_PAD.encode(serde_json::to_vec(key).unwrap_or_default())
 }
 
-/// One page of a list.
+/// One page of a list. Every list endpoint answers this shape and takes the
+/// same `limit` and `cursor` parameters.
 #[derive(Debug, Serialize, ToSchema)]
 pub struct Page<T> {
     pub items: Vec<T>,
-    /// Pass as `cursor` to get the next page; absent on the last page.
-    #[serde(skip_serializing_if = "Option::is_none")]
+    /// Pass as `cursor` to get the next page; `null` on the last page.
+    #[schema(required = true)]
     pub next_cursor: Option<String>,
 }
 
@@ -73,5 +75,33 @@ impl<T> Page<T> {
             None
         };
         Self { items, next_cursor }
+    }
+
+    /// Pages a complete list already sorted by `key` (ascending, or
+    /// descending for newest-first lists): for short lists read whole.
+    pub fn from_sorted<K>(
+        items: Vec<T>,
+        page: &PageParams,
+        descending: bool,
+        key: impl Fn(&T) -> K,
+    ) -> Result<Self, ApiError>
+    where
+        K: Serialize + for<'de> Deserialize<'de> + PartialOrd,
+    {
+        let limit = page.limit()?;
+        let after: Option<K> = page.after()?;
+        let rest: Vec<T> = match &after {
+            Some(after) => items
+                .into_iter()
+                .filter(|item| {
+                    let k = key(item);
+                    if descending { k < *after } else { k > *after }
+                })
+                .collect(),
+            None => items,
+        };
+        let mut rest = rest;
+        rest.truncate(limit as usize + 1);
+        Ok(Self::from_overfetch(rest, limit, key))
     }
 }

@@ -54,7 +54,7 @@ impl SessionInput {
     pub fn check(&self, issues: &mut Issues, prefix: &str) {
         check_text(issues, &format!("{prefix}title"), &self.title, 1, 160);
         if let Some(n) = &self.notes {
-            check_text(issues, &format!("{prefix}notes"), n, 0, 2000);
+            super::check_note(issues, &format!("{prefix}notes"), n, 0, 2000);
         }
         check_date(issues, &format!("{prefix}local_date"), self.local_date);
         if self.carbohydrate_loading && self.kind != SessionKind::Match {
@@ -78,14 +78,7 @@ impl SessionInput {
     }
 }
 
-/// Dates far outside a planning horizon are almost always typing mistakes.
-pub fn check_date(issues: &mut Issues, field: &str, date: NaiveDate) {
-    let min = NaiveDate::from_ymd_opt(2000, 1, 1).expect("valid");
-    let max = NaiveDate::from_ymd_opt(2100, 12, 31).expect("valid");
-    if date < min || date > max {
-        issues.push(field, "must be between 2000-01-01 and 2100-12-31");
-    }
-}
+pub use super::check_date;
 
 /// Checks segments for ranges that protect users. The engine checks the
 /// athlete-specific consistency (e.g. heart rate above HRmax) when planning.
@@ -303,7 +296,7 @@ impl ParticipationInput {
             issues.push("portion", "only applies to mode shortened");
         }
         if let Some(n) = &self.note {
-            check_text(&mut issues, "note", n, 0, 500);
+            super::check_note(&mut issues, "note", n, 0, 500);
         }
         issues.finish()
     }

@@ -213,6 +213,7 @@ async fn list_body_mass(
     };
     let limit = page.limit()?;
     let after: Option<(NaiveDate, Uuid)> = page.after()?;
+    crate::domain::check_filter_dates(&[("from", q.from), ("to", q.to)])?;
     if let (Some(from), Some(to)) = (q.from, q.to)
         && to < from
     {

@@ -1,13 +1,14 @@
 //! Calendar feeds (RFC 5545) of an athlete's eating occasions and session
 //! fuelling. Calendar apps cannot send bearer tokens, so each feed is reached
 //! through a secret, revocable URL; only the hash of the secret is stored.
-//! Times are written in UTC, converted from the team's zone, so every
-//! calendar shows the right local time on both sides of a clock change.
+//! Times are written in the team's zone (`TZID`), with a VTIMEZONE that
+//! describes that zone's offsets and clock changes over the feed's span, so
+//! calendars show the planned local time on both sides of a clock change.
 
 use axum::extract::State;
 use axum::http::{HeaderValue, StatusCode, header};
 use axum::response::{IntoResponse, Response};
-use chrono::{Days, NaiveDateTime, TimeZone, Utc};
+use chrono::{Datelike, Days, NaiveDate, NaiveDateTime, TimeZone, Utc};
 use serde::Serialize;
 use utoipa::ToSchema;
 use utoipa_axum::{router::OpenApiRouter, routes};
@@ -19,6 +20,8 @@ use super::extract::{PathIds, QueryParams};
 use super::{json, team_today};
 use crate::AppState;
 use crate::domain::label_of;
+use crate::domain::paging::{Page, PageParams};
+use crate::engine::day::notes::Severity;
 use crate::engine::week::{WeekPlan, WeekThresholds};
 use crate::error::{ApiError, Result};
 use crate::planner::{self, LOOK_AHEAD_DAYS, LOOK_BEHIND_DAYS, PlanOptions, TeamData};
@@ -47,18 +50,20 @@ pub struct CreatedFeed {
 
 /// An athlete's calendar-feed links (never their secrets).
 #[utoipa::path(get, path = "/v1/athletes/{athlete_id}/calendar-feeds", tag = "plans",
-    params(("athlete_id" = Uuid, Path)),
-    responses((status = 200, description = "Feed links", body = Vec<CalendarFeed>)))]
+    params(("athlete_id" = Uuid, Path), PageParams),
+    responses((status = 200, description = "One page of feed links, by id", body = Page<CalendarFeed>)))]
 async fn list_feeds(
     State(state): State<AppState>,
     caller: Caller,
     PathIds(id): PathIds<Uuid>,
+    QueryParams(page): QueryParams<PageParams>,
 ) -> Result<Response> {
     let athlete = visible_athlete(&state, &caller, id).await?;
     caller.write(athlete.team_id, "athlete")?;
+    let feeds = planning::list_feeds(&state.db, id).await?;
     Ok(json(
         StatusCode::OK,
-        &planning::list_feeds(&state.db, id).await?,
+        &Page::from_sorted(feeds, &page, false, |f| f.id)?,
     ))
 }
 
@@ -178,12 +183,31 @@ pub struct CalendarParams {
     to: Option<chrono::NaiveDate>,
 }
 
-/// Escapes TEXT values (RFC 5545 section 3.3.11).
-fn escape(text: &str) -> String {
-    text.replace('\\', "\\\\")
-        .replace(';', "\\;")
-        .replace(',', "\\,")
-        .replace('\n', "\\n")
+/// Escapes TEXT values (RFC 5545 section 3.3.11): backslash, semicolon and
+/// comma are escaped; every line break (CRLF, CR or LF) becomes `\n`; other
+/// control characters, which TEXT may not hold, are dropped. A stored name
+/// can therefore never break the line structure of the feed.
+pub fn escape(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    let mut chars = text.chars().peekable();
+    while let Some(c) = chars.next() {
+        match c {
+            '\\' => out.push_str("\\\\"),
+            ';' => out.push_str("\\;"),
+            ',' => out.push_str("\\,"),
+            '\r' => {
+                if chars.peek() == Some(&'\n') {
+                    chars.next();
+                }
+                out.push_str("\\n");
+            }
+            '\n' => out.push_str("\\n"),
+            '\t' => out.push('\t'),
+            c if c.is_control() => {}
+            c => out.push(c),
+        }
+    }
+    out
 }
 
 /// Folds a content line at 75 octets (RFC 5545 section 3.1), never inside a character.
@@ -201,19 +225,85 @@ fn fold(line: &str, out: &mut String) {
     out.push_str("\r\n");
 }
 
-fn utc_stamp(local: NaiveDateTime, tz: &chrono_tz::Tz) -> String {
-    // A local time inside a spring-forward gap does not exist: use the
-    // instant one hour later, which is what clocks show.
-    let instant = tz
-        .from_local_datetime(&local)
-        .earliest()
-        .or_else(|| {
-            tz.from_local_datetime(&(local + chrono::TimeDelta::hours(1)))
-                .earliest()
-        })
-        .map(|t| t.with_timezone(&Utc))
-        .unwrap_or_else(|| Utc.from_utc_datetime(&local));
-    instant.format("%Y%m%dT%H%M%SZ").to_string()
+/// A local date-time in the feed's zone (`DTSTART;TZID=...:` form).
+fn local_stamp(local: NaiveDateTime) -> String {
+    local.format("%Y%m%dT%H%M%S").to_string()
+}
+
+/// `+0100`, `-0330`, or with seconds when the offset has them (RFC 5545 UTC-OFFSET).
+fn utc_offset(seconds: i32) -> String {
+    let sign = if seconds < 0 { '-' } else { '+' };
+    let s = seconds.unsigned_abs();
+    let (h, m, sec) = (s / 3600, (s % 3600) / 60, s % 60);
+    if sec == 0 {
+        format!("{sign}{h:02}{m:02}")
+    } else {
+        format!("{sign}{h:02}{m:02}{sec:02}")
+    }
+}
+
+/// The zone's offset, whether it is daylight time, and its abbreviation at an instant.
+fn zone_at(tz: &chrono_tz::Tz, instant: chrono::DateTime<Utc>) -> (i32, bool, String) {
+    use chrono::Offset;
+    use chrono_tz::OffsetComponents;
+    let offset = tz.offset_from_utc_datetime(&instant.naive_utc());
+    let total = offset.fix().local_minus_utc();
+    let dst = !offset.dst_offset().is_zero();
+    (total, dst, offset.to_string())
+}
+
+/// A VTIMEZONE (RFC 5545 section 3.6.5) for `tz` that is exact over
+/// `from`..`to`: one sub-component for the offset in force at the start, and
+/// one per transition inside the span, each with its own DTSTART. Built
+/// from the zone database bundled with this build (chrono-tz).
+pub fn vtimezone(tz: &chrono_tz::Tz, from: NaiveDate, to: NaiveDate) -> Vec<String> {
+    let start = Utc.from_utc_datetime(
+        &(from - Days::new(1))
+            .and_hms_opt(0, 0, 0)
+            .expect("midnight"),
+    );
+    let end = Utc.from_utc_datetime(&(to + Days::new(2)).and_hms_opt(0, 0, 0).expect("midnight"));
+    let mut lines = vec!["BEGIN:VTIMEZONE".to_owned(), format!("TZID:{}", tz.name())];
+    let component =
+        |lines: &mut Vec<String>, onset: NaiveDateTime, before: i32, after: (i32, bool, String)| {
+            let kind = if after.1 { "DAYLIGHT" } else { "STANDARD" };
+            lines.push(format!("BEGIN:{kind}"));
+            lines.push(format!("DTSTART:{}", local_stamp(onset)));
+            lines.push(format!("TZOFFSETFROM:{}", utc_offset(before)));
+            lines.push(format!("TZOFFSETTO:{}", utc_offset(after.0)));
+            lines.push(format!("TZNAME:{}", escape(&after.2)));
+            lines.push(format!("END:{kind}"));
+        };
+    let first = zone_at(tz, start);
+    let onset = start.naive_utc() + chrono::TimeDelta::seconds(i64::from(first.0));
+    let mut current = first.clone();
+    component(&mut lines, onset, first.0, first);
+    let step = chrono::TimeDelta::hours(1);
+    let mut t = start;
+    while t < end {
+        let next = t + step;
+        let there = zone_at(tz, next);
+        if there.0 != current.0 || there.1 != current.1 {
+            // Find the transition to the second.
+            let (mut lo, mut hi) = (t, next);
+            while hi - lo > chrono::TimeDelta::seconds(1) {
+                let mid = lo + (hi - lo) / 2;
+                if zone_at(tz, mid).0 == current.0 && zone_at(tz, mid).1 == current.1 {
+                    lo = mid;
+                } else {
+                    hi = mid;
+                }
+            }
+            let after = zone_at(tz, hi);
+            // The onset is the local time just before the change, in the old offset.
+            let onset = hi.naive_utc() + chrono::TimeDelta::seconds(i64::from(current.0));
+            component(&mut lines, onset, current.0, after.clone());
+            current = after;
+        }
+        t = next;
+    }
+    lines.push("END:VTIMEZONE".to_owned());
+    lines
 }
 
 struct Event {
@@ -224,6 +314,20 @@ struct Event {
     description: String,
 }
 
+/// Joins the non-empty parts of a description, one per line.
+fn lines_of(parts: &[&str]) -> String {
+    parts
+        .iter()
+        .map(|p| p.trim())
+        .filter(|p| !p.is_empty())
+        .collect::<Vec<_>>()
+        .join("\n")
+}
+
+/// The athlete's calendar in the team's zone. Events show targets, so
+/// each carries the day's safety cautions (under 18, declared medical
+/// conditions, low energy availability...) exactly as the JSON plan does.
+/// Only weeks (Monday to Sunday) with at least one session are included.
 pub fn render_calendar(
     name: &str,
     athlete_id: Uuid,
@@ -231,10 +335,52 @@ pub fn render_calendar(
     tz: &chrono_tz::Tz,
 ) -> String {
     let mut events = Vec::new();
+    let mut span: Option<(NaiveDate, NaiveDate)> = None;
     if let Some(plan) = plan {
-        for day in &plan.days {
+        let weeks_with_sessions: std::collections::HashSet<chrono::IsoWeek> = plan
+            .days
+            .iter()
+            .filter(|d| !d.plan.sessions.is_empty())
+            .map(|d| d.date.iso_week())
+            .collect();
+        for day in plan
+            .days
+            .iter()
+            .filter(|d| weeks_with_sessions.contains(&d.date.iso_week()))
+        {
+            span = Some(match span {
+                None => (day.date, day.date),
+                Some((a, b)) => (a.min(day.date), b.max(day.date)),
+            });
+            // Athlete-level safety warnings (under 18, a medical condition)
+            // are given once per span in the plan; every event repeats them.
+            let cautions: Vec<&str> = plan
+                .athlete_warnings
+                .iter()
+                .filter(|w| w.severity == Severity::Safety && w.dates.contains(&day.date))
+                .map(|w| w.message.as_str())
+                .chain(
+                    day.plan
+                        .warnings
+                        .iter()
+                        .filter(|w| w.severity == Severity::Safety)
+                        .map(|w| w.message.as_str()),
+                )
+                .collect();
+            let caution_text = if cautions.is_empty() {
+                String::new()
+            } else {
+                format!(
+                    "Caution: {} Check these targets with a registered dietitian and a physician.",
+                    cautions.join(" ")
+                )
+            };
             for (i, occasion) in day.plan.eating_occasions.iter().enumerate() {
                 let kind = label_of(&occasion.kind).replace('_', " ");
+                let amounts = format!(
+                    "About {:.0} kcal, {:.0} g fat. Estimate: check with your dietitian.",
+                    occasion.energy_kcal, occasion.fat_g
+                );
                 events.push(Event {
                     uid: format!("{athlete_id}-{}-meal-{i}@glycoweek", day.date),
                     start: occasion.time,
@@ -245,10 +391,7 @@ pub fn render_calendar(
                         occasion.carbohydrate_g,
                         occasion.protein_g
                     ),
-                    description: format!(
-                        "{}\nAbout {:.0} kcal, {:.0} g fat. Estimate: check with your dietitian.",
-                        occasion.note, occasion.energy_kcal, occasion.fat_g
-                    ),
+                    description: lines_of(&[&occasion.note, &amounts, &caution_text]),
                 });
             }
             for fuelling in &day.plan.sessions {
@@ -257,50 +400,58 @@ pub fn render_calendar(
                     .session_id
                     .map(|s| s.to_string())
                     .unwrap_or_else(|| fuelling.start.to_string());
+                let before = format!("Before: {}", fuelling.before.note);
+                let during = format!("During: {}", fuelling.during.note);
+                let after = format!("After: {}", fuelling.after.note);
                 events.push(Event {
                     uid: format!("{athlete_id}-{id}-session@glycoweek"),
                     start: fuelling.start,
                     end: fuelling.end,
                     summary: format!("{}: fuelling plan", fuelling.session.title),
-                    description: format!(
-                        "Before: {}\nDuring: {}\nAfter: {}\nEstimates for healthy adult athletes; defer to your dietitian or physician.",
-                        fuelling.before.note, fuelling.during.note, fuelling.after.note
-                    ),
+                    description: lines_of(&[
+                        &before,
+                        &during,
+                        &after,
+                        "Estimates for healthy adult athletes; defer to your dietitian or physician.",
+                        &caution_text,
+                    ]),
                 });
             }
         }
     }
     let stamp = Utc::now().format("%Y%m%dT%H%M%SZ").to_string();
-    let mut out = String::new();
-    for line in [
+    let zone = tz.name();
+    let mut lines = vec![
         "BEGIN:VCALENDAR".to_owned(),
         "VERSION:2.0".to_owned(),
         "PRODID:-//glycoweek//fuel plan//EN".to_owned(),
         "CALSCALE:GREGORIAN".to_owned(),
         "METHOD:PUBLISH".to_owned(),
         format!("X-WR-CALNAME:{}", escape(&format!("Fuel plan: {name}"))),
-    ] {
-        fold(&line, &mut out);
+        format!("X-WR-TIMEZONE:{zone}"),
+    ];
+    if let Some((from, to)) = span {
+        lines.extend(vtimezone(tz, from, to));
     }
     for e in events {
-        for line in [
+        let end = e.end.max(e.start + chrono::TimeDelta::minutes(5));
+        lines.extend([
             "BEGIN:VEVENT".to_owned(),
             format!("UID:{}", e.uid),
             format!("DTSTAMP:{stamp}"),
-            format!("DTSTART:{}", utc_stamp(e.start, tz)),
-            format!(
-                "DTEND:{}",
-                utc_stamp(e.end.max(e.start + chrono::TimeDelta::minutes(5)), tz)
-            ),
+            format!("DTSTART;TZID={zone}:{}", local_stamp(e.start)),
+            format!("DTEND;TZID={zone}:{}", local_stamp(end)),
             format!("SUMMARY:{}", escape(&e.summary)),
             format!("DESCRIPTION:{}", escape(&e.description)),
             "TRANSP:TRANSPARENT".to_owned(),
             "END:VEVENT".to_owned(),
-        ] {
-            fold(&line, &mut out);
-        }
+        ]);
     }
-    fold("END:VCALENDAR", &mut out);
+    lines.push("END:VCALENDAR".to_owned());
+    let mut out = String::new();
+    for line in lines {
+        fold(&line, &mut out);
+    }
     out
 }
 
@@ -309,5 +460,33 @@ fn capitalise(s: &str) -> String {
     match chars.next() {
         Some(first) => first.to_uppercase().chain(chars).collect(),
         None => String::new(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn text_escaping_leaves_no_raw_line_break_or_control_character() {
+        assert_eq!(escape("a;b,c\\d"), "a\\;b\\,c\\\\d");
+        assert_eq!(
+            escape("one\rtwo\r\nthree\nfour\u{7}"),
+            "one\\ntwo\\nthree\\nfour"
+        );
+    }
+
+    #[test]
+    fn a_zone_with_a_clock_change_gets_one_component_per_offset_in_force() {
+        let tz: chrono_tz::Tz = "Europe/London".parse().unwrap();
+        let lines = vtimezone(
+            &tz,
+            NaiveDate::from_ymd_opt(2026, 10, 19).unwrap(),
+            NaiveDate::from_ymd_opt(2026, 11, 1).unwrap(),
+        );
+        let text = lines.join("\n");
+        // UK clocks go back on the last Sunday of October (25 Oct 2026) at 02:00 BST.
+        assert!(text.contains("BEGIN:STANDARD\nDTSTART:20261025T020000\nTZOFFSETFROM:+0100\nTZOFFSETTO:+0000\nTZNAME:GMT"), "{text}");
+        assert!(text.contains("BEGIN:DAYLIGHT\nDTSTART:20261018T010000\nTZOFFSETFROM:+0100\nTZOFFSETTO:+0100\nTZNAME:BST"), "{text}");
     }
 }

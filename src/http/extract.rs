@@ -51,8 +51,12 @@ fn is_json(headers: &HeaderMap) -> bool {
 
 pub fn parse_json<T: DeserializeOwned>(bytes: &[u8]) -> Result<T, ApiError> {
     let de = &mut serde_json::Deserializer::from_slice(bytes);
-    match serde_path_to_error::deserialize(de) {
-        Ok(value) => Ok(value),
+    match serde_path_to_error::deserialize(&mut *de) {
+        // Anything but whitespace after the value is not JSON (RFC 8259).
+        Ok(value) => de
+            .end()
+            .map(|()| value)
+            .map_err(|e| ApiError::BadRequest(format!("The body is not valid JSON ({e})."))),
         Err(err) => {
             let path = err.path().to_string();
             let inner = err.into_inner();
@@ -123,19 +127,39 @@ fn form_urlencoded_parse(query: &str) -> form_urlencoded::Parse<'_> {
     form_urlencoded::parse(query.as_bytes())
 }
 
-/// A path parameter that must be a UUID; anything else answers 404, exactly as
-/// an id that does not exist would.
+/// Path parameters. An id (`..._id`) must be a UUID in its canonical
+/// hyphenated form (the form this API writes); anything else, including the
+/// braced, URN and unhyphenated forms a UUID parser would accept, answers
+/// 404, exactly as an id that does not exist would.
 pub struct PathIds<T>(pub T);
 
 impl<S: Send + Sync, T: DeserializeOwned + Send> FromRequestParts<S> for PathIds<T> {
     type Rejection = ApiError;
 
     async fn from_request_parts(parts: &mut Parts, state: &S) -> Result<Self, Self::Rejection> {
+        let raw = axum::extract::RawPathParams::from_request_parts(parts, state)
+            .await
+            .map_err(|_| ApiError::NotFound("resource"))?;
+        if raw
+            .iter()
+            .any(|(name, value)| name.ends_with("_id") && !is_canonical_uuid(value))
+        {
+            return Err(ApiError::NotFound("resource"));
+        }
         axum::extract::Path::<T>::from_request_parts(parts, state)
             .await
             .map(|axum::extract::Path(v)| PathIds(v))
             .map_err(|_| ApiError::NotFound("resource"))
     }
+}
+
+/// `xxxxxxxx-xxxx-xxxx-xxxx-xxxxxxxxxxxx` in hexadecimal digits (either case).
+pub fn is_canonical_uuid(s: &str) -> bool {
+    s.len() == 36
+        && s.bytes().enumerate().all(|(i, b)| match i {
+            8 | 13 | 18 | 23 => b == b'-',
+            _ => b.is_ascii_hexdigit(),
+        })
 }
 
 /// The precondition of `If-Match`: absent or `*` writes unconditionally;

@@ -34,9 +34,22 @@ pub fn router() -> OpenApiRouter<AppState> {
 
 /// The activity catalogue: keys usable as `{"form": "activity", "activity": KEY}`.
 #[utoipa::path(get, path = "/v1/activities", tag = "engine",
-    responses((status = 200, description = "Every catalogue activity with its Compendium code and METs", body = Vec<Activity>)))]
-async fn list_activities(_caller: Caller) -> Response {
-    json(StatusCode::OK, &ACTIVITIES)
+    params(crate::domain::paging::PageParams),
+    responses((status = 200, description = "One page of catalogue activities (in catalogue order) with their Compendium code and METs", body = crate::domain::paging::Page<Activity>)))]
+async fn list_activities(
+    _caller: Caller,
+    super::extract::QueryParams(page): super::extract::QueryParams<
+        crate::domain::paging::PageParams,
+    >,
+) -> Result<Response> {
+    // Paged by position in the catalogue, which is fixed in a build.
+    let indexed: Vec<(usize, &Activity)> = ACTIVITIES.iter().enumerate().collect();
+    let page = crate::domain::paging::Page::from_sorted(indexed, &page, false, |(i, _)| *i)?;
+    let page = crate::domain::paging::Page {
+        items: page.items.into_iter().map(|(_, a)| a).collect::<Vec<_>>(),
+        next_cursor: page.next_cursor,
+    };
+    Ok(json(StatusCode::OK, &page))
 }
 
 /// A session to estimate for an athlete the caller describes.

@@ -10,6 +10,7 @@ pub mod extract;
 pub mod fuel;
 pub mod middleware;
 pub mod openapi;
+pub mod output;
 pub mod plan;
 pub mod plan_cache;
 pub mod sessions;
@@ -49,9 +50,10 @@ pub fn api_router() -> OpenApiRouter<AppState> {
 
 /// A JSON response. Numbers are rounded to 3 decimals: the engine's
 /// estimates carry no more precision than that, and 15 digits of noise make
-/// responses larger and harder to read.
+/// responses larger and harder to read. Citations are listed once per
+/// response (see [`output`]).
 pub fn json<T: Serialize>(status: StatusCode, body: &T) -> Response {
-    match to_json_bytes(body) {
+    match to_wire_bytes(body, None) {
         Ok(bytes) => {
             let mut res = (status, bytes).into_response();
             res.headers_mut().insert(
@@ -62,6 +64,15 @@ pub fn json<T: Serialize>(status: StatusCode, body: &T) -> Response {
         }
         Err(e) => ApiError::internal(e).into_response(),
     }
+}
+
+/// The bytes of a response body: [`output::shape`] (sources once, local
+/// times placed in `zone`), then floats rounded to 3 decimals.
+pub fn to_wire_bytes<T: Serialize>(
+    body: &T,
+    zone: Option<&chrono_tz::Tz>,
+) -> Result<Vec<u8>, serde_json::Error> {
+    to_json_bytes(&output::shape(body, zone)?)
 }
 
 /// Serialises with floats rounded to 3 decimals, streaming (no value tree).

@@ -132,21 +132,64 @@ pub fn finish(mut doc: OpenApiDoc) -> OpenApiDoc {
         return doc;
     };
     refine(&mut value);
-    serde_json::from_value(value).unwrap_or(doc)
+    // Refinements only ever produce valid OpenAPI; the API tests compare the
+    // result with the committed document, so a slip fails there at once.
+    match serde_json::from_value(value) {
+        Ok(refined) => refined,
+        Err(e) => {
+            debug_assert!(false, "the refined OpenAPI document does not parse: {e}");
+            tracing::error!(error = %e, "the refined OpenAPI document does not parse; serving the unrefined one");
+            doc
+        }
+    }
 }
 
 const LOCAL_TIME: &str = "^([01][0-9]|2[0-3]):[0-5][0-9](:[0-5][0-9])?$";
 const LOCAL_DATE_TIME: &str =
     "^[0-9]{4}-[0-9]{2}-[0-9]{2}T([01][0-9]|2[0-3]):[0-5][0-9](:[0-5][0-9](\\.[0-9]+)?)?$";
+/// One-line text: no control characters (Unicode Cc) and no bidirectional
+/// formatting characters (UAX #9).
+const ONE_LINE_TEXT: &str =
+    "^[^\\u0000-\\u001F\\u007F-\\u009F\\u061C\\u200E\\u200F\\u202A-\\u202E\\u2066-\\u2069]*$";
+
+/// In responses: a local date-time, with the RFC 3339 offset of the team's
+/// zone when the response belongs to a team (plans), without one otherwise
+/// (stateless estimates).
+const PLACED_DATE_TIME: &str = "^[0-9]{4}-[0-9]{2}-[0-9]{2}T([01][0-9]|2[0-3]):[0-5][0-9](:[0-5][0-9](\\.[0-9]+)?)?([+-][0-9]{2}:[0-9]{2})?$";
 
 fn refine(doc: &mut Value) {
+    let sent = request_schemas(doc);
     let schemas = &mut doc["components"]["schemas"];
-    // Time zones are IANA names: list the ones this build knows.
-    let zones: Vec<Value> = chrono_tz::TZ_VARIANTS
-        .iter()
-        .map(|tz| Value::from(tz.name()))
-        .collect();
-    schemas["TeamInput"]["properties"]["time_zone"]["enum"] = Value::Array(zones);
+    // Time zones are IANA names, checked against the zone database bundled
+    // with this build. A string, not a 600-value enum: client generators
+    // cannot turn names such as `Etc/GMT+0` and `Etc/GMT-0` into distinct
+    // identifiers.
+    schemas["TeamInput"]["properties"]["time_zone"] = serde_json::json!({
+        "type": "string",
+        "minLength": 1,
+        "maxLength": 64,
+        "description": "IANA time zone name (tz database), e.g. `Europe/London`; checked against the zone database of this build (422 if unknown). Dates and session start times of the team are local to it.",
+        "example": "Europe/London"
+    });
+    // One-line text refuses control and bidirectional formatting characters
+    // (domain::check_text).
+    for (schema, field) in [
+        ("TeamInput", "name"),
+        ("AthleteInput", "display_name"),
+        ("AthleteInput", "position_group"),
+        ("SessionInput", "title"),
+        ("Segment", "label"),
+        ("TokenInput", "label"),
+    ] {
+        if let Some(prop) = schemas
+            .get_mut(schema)
+            .and_then(|s| s.get_mut("properties"))
+            .and_then(|p| p.get_mut(field))
+            .and_then(Value::as_object_mut)
+        {
+            prop.insert("pattern".into(), ONE_LINE_TEXT.into());
+        }
+    }
     // Local wall-clock times and local date-times carry no offset.
     schemas["SessionInput"]["properties"]["start_time"]["pattern"] = LOCAL_TIME.into();
     if let Some(props) = schemas["MealTimes"]["properties"].as_object_mut() {
@@ -190,10 +233,17 @@ fn refine(doc: &mut Value) {
             }
         }
     }
-    // Local (zone-less) date-times: every date-time except the `..._at` instants.
+    // Local date-times: every date-time except the `..._at` instants. What
+    // clients send is local (no offset); what plans return carries the
+    // offset of the team's zone (http/output.rs).
     if let Some(all) = schemas.as_object_mut() {
-        for schema in all.values_mut() {
-            mark_local_date_times(schema);
+        for (name, schema) in all.iter_mut() {
+            let pattern = if sent.contains(name) {
+                LOCAL_DATE_TIME
+            } else {
+                PLACED_DATE_TIME
+            };
+            mark_local_date_times(schema, pattern);
         }
     }
     // Admin tokens have no team; planner and reader tokens need one.
@@ -257,6 +307,7 @@ fn refine(doc: &mut Value) {
         "application/merge-patch+json",
         "SessionPatch",
     );
+    cite_sources(doc);
 }
 
 /// A merge patch of an input: any subset of its fields; `null` removes an
@@ -296,43 +347,178 @@ fn merge_patch_schema(input: &Value) -> Value {
 /// `*` or a comma-separated list of entity tags (RFC 9110).
 const ENTITY_TAGS: &str = "^(\\*|(W/)?\"[^\"]*\"(\\s*,\\s*(W/)?\"[^\"]*\")*)$";
 
-fn mark_local_date_times(schema: &mut Value) {
+fn mark_local_date_times(schema: &mut Value, pattern: &str) {
     match schema {
         Value::Object(map) => {
             if let Some(props) = map.get_mut("properties").and_then(Value::as_object_mut) {
                 for (name, prop) in props.iter_mut() {
                     if !name.ends_with("_at") {
-                        localise(prop);
+                        localise(prop, pattern);
                     }
                 }
             }
             for key in ["oneOf", "anyOf", "allOf"] {
                 if let Some(alts) = map.get_mut(key).and_then(Value::as_array_mut) {
-                    alts.iter_mut().for_each(mark_local_date_times);
+                    alts.iter_mut()
+                        .for_each(|a| mark_local_date_times(a, pattern));
                 }
             }
         }
-        Value::Array(items) => items.iter_mut().for_each(mark_local_date_times),
+        Value::Array(items) => items
+            .iter_mut()
+            .for_each(|a| mark_local_date_times(a, pattern)),
         _ => {}
     }
 }
 
-fn localise(prop: &mut Value) {
-    if prop["format"] == "date-time"
+fn localise(prop: &mut Value, pattern: &str) {
+    if (prop["format"] == "date-time" || prop["pattern"] == LOCAL_DATE_TIME)
         && let Some(obj) = prop.as_object_mut()
     {
         obj.remove("format");
-        obj.insert("pattern".into(), LOCAL_DATE_TIME.into());
+        obj.insert("pattern".into(), pattern.into());
     }
     if prop["items"].is_object() {
-        localise(&mut prop["items"]);
+        localise(&mut prop["items"], pattern);
     }
     for key in ["oneOf", "anyOf"] {
         if let Some(alts) = prop.get_mut(key).and_then(Value::as_array_mut) {
-            alts.iter_mut().for_each(localise);
+            alts.iter_mut().for_each(|a| localise(a, pattern));
         }
     }
 }
+
+/// Names of the component schemas `$ref`erenced (directly or not) by `value`.
+fn referenced(value: &Value, schemas: &Value, out: &mut std::collections::BTreeSet<String>) {
+    match value {
+        Value::Object(map) => {
+            if let Some(name) = map
+                .get("$ref")
+                .and_then(Value::as_str)
+                .and_then(|r| r.strip_prefix("#/components/schemas/"))
+                && out.insert(name.to_owned())
+            {
+                referenced(&schemas[name], schemas, out);
+            }
+            map.values().for_each(|v| referenced(v, schemas, out));
+        }
+        Value::Array(items) => items.iter().for_each(|v| referenced(v, schemas, out)),
+        _ => {}
+    }
+}
+
+/// The schemas a client sends (request bodies, transitively).
+fn request_schemas(doc: &Value) -> std::collections::BTreeSet<String> {
+    let mut out = std::collections::BTreeSet::new();
+    if let Some(paths) = doc["paths"].as_object() {
+        for item in paths.values() {
+            if let Some(ops) = item.as_object() {
+                for op in ops.values() {
+                    referenced(&op["requestBody"], &doc["components"]["schemas"], &mut out);
+                }
+            }
+        }
+    }
+    out
+}
+
+/// Describes the sources rule of http/output.rs: a citation property
+/// (`source`, a plain string) is sent as `source_id`, and every response
+/// object that can hold one gets the top-level `sources` table.
+fn cite_sources(doc: &mut Value) {
+    use super::output::{SOURCE_FIELD, SOURCE_ID_FIELD, SOURCES_FIELD};
+    let schemas = &mut doc["components"]["schemas"];
+    let mut citing = std::collections::BTreeSet::new();
+    if let Some(all) = schemas.as_object_mut() {
+        for (name, schema) in all.iter_mut() {
+            let Some(props) = schema.get_mut("properties").and_then(Value::as_object_mut) else {
+                continue;
+            };
+            let plain_string = props
+                .get(SOURCE_FIELD)
+                .is_some_and(|p| p["type"] == "string" && p.get("enum").is_none());
+            if !plain_string {
+                continue;
+            }
+            props.remove(SOURCE_FIELD);
+            props.insert(
+                SOURCE_ID_FIELD.into(),
+                serde_json::json!({
+                    "type": "integer",
+                    "minimum": 0,
+                    "description": "The published source (or `common practice` / `from memory` label) of this value: an `id` in the response's top-level `sources`."
+                }),
+            );
+            if let Some(required) = schema["required"].as_array_mut() {
+                for r in required.iter_mut() {
+                    if r == SOURCE_FIELD {
+                        *r = SOURCE_ID_FIELD.into();
+                    }
+                }
+            }
+            citing.insert(name.clone());
+        }
+    }
+    schemas[SOURCE_TABLE] = serde_json::json!({
+        "type": "object",
+        "description": "A published source, or the label `common practice` / `from memory`, listed once per response.",
+        "required": ["id", "text"],
+        "properties": {
+            "id": {"type": "integer", "minimum": 0},
+            "text": {"type": "string", "example": "Thomas, Erdman & Burke (2016)"}
+        }
+    });
+    // Response bodies whose schema can reach a citation get the table.
+    let mut roots = std::collections::BTreeSet::new();
+    if let Some(paths) = doc["paths"].as_object() {
+        for item in paths.values() {
+            let Some(ops) = item.as_object() else {
+                continue;
+            };
+            for op in ops.values() {
+                let Some(responses) = op["responses"].as_object() else {
+                    continue;
+                };
+                for response in responses.values() {
+                    let Some(content) = response["content"].as_object() else {
+                        continue;
+                    };
+                    for media in content.values() {
+                        if let Some(name) = media["schema"]["$ref"]
+                            .as_str()
+                            .and_then(|r| r.strip_prefix("#/components/schemas/"))
+                        {
+                            let mut reach = std::collections::BTreeSet::new();
+                            referenced(&media["schema"], &doc["components"]["schemas"], &mut reach);
+                            if reach.iter().any(|n| citing.contains(n)) {
+                                roots.insert(name.to_owned());
+                            }
+                        }
+                    }
+                }
+            }
+        }
+    }
+    let schemas = &mut doc["components"]["schemas"];
+    for root in roots {
+        if let Some(props) = schemas
+            .get_mut(&root)
+            .and_then(|s| s.get_mut("properties"))
+            .and_then(Value::as_object_mut)
+        {
+            props.insert(
+                SOURCES_FIELD.into(),
+                serde_json::json!({
+                    "type": "array",
+                    "description": "Every source cited in this response, once; values refer to them by `source_id`. Absent when nothing is cited.",
+                    "items": {"$ref": format!("#/components/schemas/{SOURCE_TABLE}")}
+                }),
+            );
+        }
+    }
+}
+
+const SOURCE_TABLE: &str = "CitedSource";
 
 fn is_nullable(schema: &Value) -> bool {
     let null = Value::from("null");

@@ -22,9 +22,11 @@ use uuid::Uuid;
 use super::athletes::visible_athlete;
 use super::auth::Caller;
 use super::extract::{PathIds, QueryParams};
+use super::plan_cache::CachedBody;
 use super::{json, team_today, visible_team};
 use crate::AppState;
 use crate::domain::athlete::Athlete;
+use crate::domain::paging::{Page, PageParams};
 use crate::domain::team::Team;
 use crate::engine::day::energy_availability::EnergyAvailabilityBand;
 use crate::engine::day::notes::Severity;
@@ -39,6 +41,7 @@ pub fn router() -> OpenApiRouter<AppState> {
         .routes(routes!(team_plan))
         .routes(routes!(team_summary))
         .routes(routes!(team_summary_csv))
+        .routes(routes!(team_totals_csv))
         .routes(routes!(plan_changes))
         .routes(routes!(athlete_plan))
         .routes(routes!(changes_feed))
@@ -202,7 +205,7 @@ async fn prepare(
     if let Some(res) = not_modified(headers, &etag)? {
         return Ok(Ok(res));
     }
-    if let Some(res) = cached(state, &etag) {
+    if let Some(res) = cached(state, headers, &etag) {
         return Ok(Ok(res));
     }
     Ok(Err(PlanKey {
@@ -213,27 +216,64 @@ async fn prepare(
 }
 
 /// A response from the plan cache, if this exact plan was computed before.
-fn cached(state: &AppState, etag: &str) -> Option<Response> {
-    state.plan_cache.get(etag).map(|bytes| {
-        let mut res = (StatusCode::OK, bytes).into_response();
-        res.headers_mut().insert(
-            header::CONTENT_TYPE,
-            HeaderValue::from_static("application/json"),
-        );
-        with_etag(res, etag)
-    })
+fn cached(state: &AppState, headers: &HeaderMap, etag: &str) -> Option<Response> {
+    state
+        .plan_cache
+        .get(etag)
+        .map(|body| plan_response(headers, body, etag))
 }
 
-/// Serialises a plan, keeps it in the cache under its ETag, and responds with it.
-fn store_and_respond<T: Serialize>(state: &AppState, etag: &str, body: &T) -> Result<Response> {
-    let bytes = axum::body::Bytes::from(super::to_json_bytes(body).map_err(ApiError::internal)?);
-    state.plan_cache.put(etag, bytes.clone());
+/// Whether `Accept-Encoding` accepts gzip (RFC 9110 section 12.5.3).
+pub fn accepts_gzip(headers: &HeaderMap) -> bool {
+    headers
+        .get_all(header::ACCEPT_ENCODING)
+        .iter()
+        .filter_map(|v| v.to_str().ok())
+        .flat_map(|v| v.split(','))
+        .any(|coding| {
+            let mut parts = coding.split(';').map(str::trim);
+            let name = parts.next().unwrap_or("").to_ascii_lowercase();
+            let q = parts
+                .find_map(|p| p.strip_prefix("q=").or_else(|| p.strip_prefix("Q=")))
+                .and_then(|q| q.parse::<f32>().ok())
+                .unwrap_or(1.0);
+            (name == "gzip" || name == "x-gzip" || name == "*") && q > 0.0
+        })
+}
+
+/// A plan body in the encoding the client accepts; the compressed form was
+/// made once, when the plan was computed.
+fn plan_response(headers: &HeaderMap, body: CachedBody, etag: &str) -> Response {
+    let gzip = accepts_gzip(headers);
+    let bytes = if gzip { body.gzip } else { body.plain };
     let mut res = (StatusCode::OK, bytes).into_response();
-    res.headers_mut().insert(
+    let h = res.headers_mut();
+    h.insert(
         header::CONTENT_TYPE,
         HeaderValue::from_static("application/json"),
     );
-    Ok(with_etag(res, etag))
+    h.insert(header::VARY, HeaderValue::from_static("accept-encoding"));
+    if gzip {
+        h.insert(header::CONTENT_ENCODING, HeaderValue::from_static("gzip"));
+    }
+    with_etag(res, etag)
+}
+
+/// Serialises a plan (sources once; local times placed in the team's zone),
+/// keeps it in the cache under its ETag in both encodings, and responds.
+fn store_and_respond<T: Serialize>(
+    state: &AppState,
+    headers: &HeaderMap,
+    etag: &str,
+    zone: &chrono_tz::Tz,
+    body: &T,
+) -> Result<Response> {
+    let plain = axum::body::Bytes::from(
+        super::to_wire_bytes(body, Some(zone)).map_err(ApiError::internal)?,
+    );
+    let body = CachedBody::new(plain).map_err(ApiError::internal)?;
+    state.plan_cache.put(etag, body.clone());
+    Ok(plan_response(headers, body, etag))
 }
 
 /// Loads the team's data and computes the plans of `athletes` (all active
@@ -286,6 +326,10 @@ async fn compute(
 #[derive(Debug, Serialize, ToSchema)]
 pub struct AthletePlan {
     pub athlete_id: Uuid,
+    /// The team's IANA time zone: every local date-time in the plan is in
+    /// it, and carries its RFC 3339 offset.
+    #[schema(example = "Europe/London")]
+    pub time_zone: String,
     pub display_name: String,
     pub position_group: Option<String>,
     /// Absent when the athlete cannot be planned; see `problems`.
@@ -335,6 +379,7 @@ async fn athlete_plans(
             };
             AthletePlan {
                 athlete_id: w.athlete.id,
+                time_zone: data.team.time_zone.clone(),
                 display_name: w.athlete.display_name,
                 position_group: w.athlete.position_group,
                 plan,
@@ -376,6 +421,7 @@ async fn team_plan(
         q.include_glycogen_series == Some(true),
     )
     .await?;
+    let zone = data.team.tz();
     let body = TeamPlan {
         team_id,
         team_name: data.team.name.clone(),
@@ -386,7 +432,7 @@ async fn team_plan(
         athletes,
         cautions: planner::general_cautions(),
     };
-    store_and_respond(&state, &etag, &body)
+    store_and_respond(&state, &headers, &etag, &zone, &body)
 }
 
 /// One row of the squad summary: an athlete's day at a glance.
@@ -480,6 +526,52 @@ fn summary_rows(weeks: &[AthleteWeek]) -> Vec<SummaryRow> {
     rows
 }
 
+/// What a snapshot keeps of an athlete-day: the summary row and the times
+/// of its eating occasions, so `/plan/changes` can show moved meals too.
+#[derive(Debug, Serialize, Deserialize)]
+struct SnapshotRow {
+    #[serde(flatten)]
+    row: SummaryRow,
+    #[serde(default)]
+    eating_occasions: Vec<OccasionTime>,
+}
+
+/// An eating occasion's local time (`HH:MM`) and kind.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+struct OccasionTime {
+    time: String,
+    kind: String,
+}
+
+fn snapshot_rows(weeks: &[AthleteWeek]) -> Vec<SnapshotRow> {
+    let mut occasions: HashMap<(Uuid, NaiveDate), Vec<OccasionTime>> = HashMap::new();
+    for week in weeks {
+        let Ok(plan) = &week.plan else { continue };
+        for day in &plan.days {
+            occasions.insert(
+                (week.athlete.id, day.date),
+                day.plan
+                    .eating_occasions
+                    .iter()
+                    .map(|o| OccasionTime {
+                        time: o.time.format("%H:%M").to_string(),
+                        kind: label(&o.kind),
+                    })
+                    .collect(),
+            );
+        }
+    }
+    summary_rows(weeks)
+        .into_iter()
+        .map(|row| SnapshotRow {
+            eating_occasions: occasions
+                .remove(&(row.athlete_id, row.date))
+                .unwrap_or_default(),
+            row,
+        })
+        .collect()
+}
+
 async fn save_snapshot(
     state: &AppState,
     team_id: Uuid,
@@ -492,7 +584,7 @@ async fn save_snapshot(
     match plans::snapshot(&state.db, team_id, version, span).await {
         Ok(Some(_)) => {}
         Ok(None) => {
-            let rows = serde_json::to_string(&summary_rows(weeks)).unwrap_or_default();
+            let rows = serde_json::to_string(&snapshot_rows(weeks)).unwrap_or_default();
             if let Err(e) = plans::save_snapshot(&state.db, team_id, version, span, &rows).await {
                 tracing::warn!(error = %e, "could not store a plan snapshot");
             }
@@ -511,6 +603,8 @@ pub struct TeamSummary {
     pub version: i64,
     /// One row per athlete and day.
     pub rows: Vec<SummaryRow>,
+    /// The squad's catering totals per day (also `/plan/totals.csv`).
+    pub day_totals: Vec<DayTotal>,
     /// Athletes without a plan and why.
     pub unplanned: Vec<Unplanned>,
     /// Every week-level warning, with its cause and fix.
@@ -596,14 +690,17 @@ async fn team_summary(
         Ok(res) => return Ok(res),
         Err(key) => key,
     };
+    let zone = team.tz();
     let (_, weeks) = compute(&state, team, &q, span, None).await?;
     save_snapshot(&state, team_id, version, span, &weeks).await;
+    let rows = summary_rows(&weeks);
     let body = TeamSummary {
         team_id,
         from: span.0,
         to: span.1,
         version,
-        rows: summary_rows(&weeks),
+        day_totals: day_totals(&rows),
+        rows,
         unplanned: unplanned(&weeks),
         warnings: weeks
             .iter()
@@ -613,13 +710,15 @@ async fn team_summary(
         athlete_warnings: athlete_warnings(&weeks),
         cautions: planner::general_cautions(),
     };
-    store_and_respond(&state, &etag, &body)
+    store_and_respond(&state, &headers, &etag, &zone, &body)
 }
 
-const CSV_COLUMNS: [&str; 17] = [
-    "date",
+/// The summary's columns, in order: exactly the fields of [`SummaryRow`]
+/// (a test checks they match the JSON).
+pub const SUMMARY_CSV_COLUMNS: [&str; 18] = [
     "athlete_id",
-    "athlete",
+    "display_name",
+    "date",
     "load_band",
     "carbohydrate_g_per_kg",
     "carbohydrate_g",
@@ -627,70 +726,159 @@ const CSV_COLUMNS: [&str; 17] = [
     "protein_g",
     "fat_g",
     "energy_kcal",
-    "energy_availability_kcal_per_kg_ffm",
+    "energy_availability",
     "energy_availability_band",
     "training_minutes",
     "sessions",
-    "muscle_glycogen_start_fraction",
-    "muscle_glycogen_end_fraction",
+    "muscle_glycogen_start",
+    "muscle_glycogen_end",
+    "lowest_session_start_glycogen",
     "warnings",
 ];
 
-/// Renders the summary as RFC 4180 CSV: one row per athlete and day, then
-/// one `TOTAL` row per day with the catering totals of that day's rows.
-pub fn summary_csv(rows: &[SummaryRow]) -> std::result::Result<Vec<u8>, csv::Error> {
+/// The squad totals' columns: exactly the fields of [`DayTotal`].
+pub const TOTALS_CSV_COLUMNS: [&str; 6] = [
+    "date",
+    "athletes",
+    "carbohydrate_g",
+    "protein_g",
+    "fat_g",
+    "energy_kcal",
+];
+
+/// The squad's catering totals for one day (sum of the athletes' day targets).
+#[derive(Debug, Clone, PartialEq, Serialize, ToSchema)]
+pub struct DayTotal {
+    pub date: NaiveDate,
+    /// Athletes planned that day.
+    pub athletes: usize,
+    pub carbohydrate_g: f64,
+    pub protein_g: f64,
+    pub fat_g: f64,
+    pub energy_kcal: f64,
+}
+
+fn day_totals(rows: &[SummaryRow]) -> Vec<DayTotal> {
+    let mut totals: std::collections::BTreeMap<NaiveDate, DayTotal> = Default::default();
+    for r in rows {
+        let t = totals.entry(r.date).or_insert_with(|| DayTotal {
+            date: r.date,
+            athletes: 0,
+            carbohydrate_g: 0.0,
+            protein_g: 0.0,
+            fat_g: 0.0,
+            energy_kcal: 0.0,
+        });
+        t.athletes += 1;
+        t.carbohydrate_g += r.carbohydrate_g;
+        t.protein_g += r.protein_g;
+        t.fat_g += r.fat_g;
+        t.energy_kcal += r.energy_kcal;
+    }
+    totals
+        .into_values()
+        .map(|mut t| {
+            t.carbohydrate_g = round(t.carbohydrate_g, 1);
+            t.protein_g = round(t.protein_g, 1);
+            t.fat_g = round(t.fat_g, 1);
+            t.energy_kcal = round(t.energy_kcal, 0);
+            t
+        })
+        .collect()
+}
+
+/// Writes records as RFC 4180 CSV (CRLF, header row) whose columns are the
+/// records' JSON fields, so a spreadsheet and a JSON client read the same
+/// names and values. Text cells are quoted and neutralised against formula
+/// injection; numbers are written as in the JSON, never as `-0`.
+fn records_csv<T: Serialize>(
+    columns: &[&str],
+    records: &[T],
+) -> std::result::Result<Vec<u8>, csv::Error> {
     let mut out = csv::WriterBuilder::new()
         .terminator(csv::Terminator::CRLF)
+        .quote_style(csv::QuoteStyle::NonNumeric)
         .from_writer(Vec::new());
-    out.write_record(CSV_COLUMNS)?;
-    let mut sorted: Vec<&SummaryRow> = rows.iter().collect();
-    sorted.sort_by(|a, b| (a.date, &a.display_name).cmp(&(b.date, &b.display_name)));
-    let mut totals: std::collections::BTreeMap<NaiveDate, [f64; 4]> = Default::default();
-    for r in &sorted {
-        out.write_record([
-            r.date.to_string(),
-            r.athlete_id.to_string(),
-            r.display_name.clone(),
-            label(&r.load_band),
-            r.carbohydrate_g_per_kg.to_string(),
-            r.carbohydrate_g.to_string(),
-            r.carbohydrate_pinned.to_string(),
-            r.protein_g.to_string(),
-            r.fat_g.to_string(),
-            r.energy_kcal.to_string(),
-            r.energy_availability.to_string(),
-            label(&r.energy_availability_band),
-            r.training_minutes.to_string(),
-            r.sessions.to_string(),
-            r.muscle_glycogen_start.to_string(),
-            r.muscle_glycogen_end.to_string(),
-            r.warnings.join(" "),
-        ])?;
-        let t = totals.entry(r.date).or_default();
-        t[0] += r.carbohydrate_g;
-        t[1] += r.protein_g;
-        t[2] += r.fat_g;
-        t[3] += r.energy_kcal;
-    }
-    for (date, t) in totals {
-        let mut record = vec![String::new(); CSV_COLUMNS.len()];
-        record[0] = date.to_string();
-        record[2] = "TOTAL".into();
-        record[5] = round(t[0], 1).to_string();
-        record[7] = round(t[1], 1).to_string();
-        record[8] = round(t[2], 1).to_string();
-        record[9] = round(t[3], 0).to_string();
-        out.write_record(&record)?;
+    out.write_record(columns)?;
+    for record in records {
+        let value =
+            serde_json::to_value(record).map_err(|e| csv::Error::from(std::io::Error::other(e)))?;
+        out.write_record(columns.iter().map(|c| csv_cell(&value[*c])))?;
     }
     out.into_inner().map_err(|e| e.into_error().into())
 }
 
-/// The squad summary as CSV (RFC 4180) for spreadsheets and kitchens, with
-/// a `TOTAL` row per day for catering.
+/// One CSV cell from a JSON value: lists are joined with spaces.
+pub fn csv_cell(value: &serde_json::Value) -> String {
+    use serde_json::Value;
+    match value {
+        Value::Null => String::new(),
+        Value::Bool(b) => b.to_string(),
+        Value::Number(n) => match (n.as_i64(), n.as_f64()) {
+            (Some(i), _) => i.to_string(),
+            (None, Some(f)) => {
+                let rounded = (f * 1000.0).round() / 1000.0;
+                // `+ 0.0` turns -0 into 0.
+                (if rounded == 0.0 { 0.0 } else { rounded }).to_string()
+            }
+            _ => n.to_string(),
+        },
+        Value::String(s) => neutralise(s),
+        Value::Array(items) => neutralise(
+            &items
+                .iter()
+                .map(|v| match v {
+                    Value::String(s) => s.clone(),
+                    other => csv_cell(other),
+                })
+                .collect::<Vec<_>>()
+                .join(" "),
+        ),
+        Value::Object(_) => neutralise(&value.to_string()),
+    }
+}
+
+/// OWASP's CSV-injection guidance: a cell that starts with `=`, `+`, `-`,
+/// `@`, tab or carriage return (or their full-width forms, which some
+/// spreadsheets also read as formulas) is prefixed with a single quote, so
+/// a spreadsheet shows it as text instead of evaluating it. Quoting and
+/// doubling of `"` is done by the CSV writer.
+pub fn neutralise(text: &str) -> String {
+    match text.chars().next() {
+        Some('=' | '+' | '-' | '@' | '\t' | '\r' | '\n' | '＝' | '＋' | '－' | '＠') => {
+            format!("'{text}")
+        }
+        _ => text.to_owned(),
+    }
+}
+
+/// Renders the summary as RFC 4180 CSV: one row per athlete and day, by
+/// date then name. Squad totals are a separate sheet (`/plan/totals.csv`).
+pub fn summary_csv(rows: &[SummaryRow]) -> std::result::Result<Vec<u8>, csv::Error> {
+    let mut sorted: Vec<&SummaryRow> = rows.iter().collect();
+    sorted.sort_by(|a, b| (a.date, &a.display_name).cmp(&(b.date, &b.display_name)));
+    records_csv(&SUMMARY_CSV_COLUMNS, &sorted)
+}
+
+fn csv_response(bytes: Vec<u8>, filename: &str, etag: &str) -> Response {
+    let mut res = (StatusCode::OK, bytes).into_response();
+    res.headers_mut().insert(
+        header::CONTENT_TYPE,
+        HeaderValue::from_static("text/csv; charset=utf-8; header=present"),
+    );
+    let disposition = format!("attachment; filename=\"{filename}\"");
+    if let Ok(v) = HeaderValue::from_str(&disposition) {
+        res.headers_mut().insert(header::CONTENT_DISPOSITION, v);
+    }
+    with_etag(res, etag)
+}
+
+/// The squad summary as CSV (RFC 4180) for spreadsheets and kitchens: one
+/// row per athlete and day, columns named as the JSON summary's fields.
 #[utoipa::path(get, path = "/v1/teams/{team_id}/plan/summary.csv", tag = "plans",
     params(("team_id" = Uuid, Path), PlanParams, ("if-none-match" = Option<String>, Header)),
     responses(
-        (status = 200, description = "CSV, one row per athlete and day, then daily totals", content_type = "text/csv", body = String, headers(("etag" = String))),
+        (status = 200, description = "CSV, one row per athlete and day; columns are the fields of SummaryRow. Text cells starting with = + - @ tab or CR are prefixed with a single quote (OWASP CSV injection guidance).", content_type = "text/csv", body = String, headers(("etag" = String))),
         (status = 304, description = "Unchanged since the ETag you sent")))]
 async fn team_summary_csv(
     State(state): State<AppState>,
@@ -708,16 +896,100 @@ async fn team_summary_csv(
     }
     let (_, weeks) = compute(&state, team, &q, span, None).await?;
     let bytes = summary_csv(&summary_rows(&weeks)).map_err(ApiError::internal)?;
-    let mut res = (StatusCode::OK, bytes).into_response();
-    res.headers_mut().insert(
-        header::CONTENT_TYPE,
-        HeaderValue::from_static("text/csv; charset=utf-8; header=present"),
-    );
-    let disposition = format!("attachment; filename=\"plan-{}-{}.csv\"", span.0, span.1);
-    if let Ok(v) = HeaderValue::from_str(&disposition) {
-        res.headers_mut().insert(header::CONTENT_DISPOSITION, v);
+    Ok(csv_response(
+        bytes,
+        &format!("plan-{}-{}.csv", span.0, span.1),
+        &etag,
+    ))
+}
+
+/// The squad's catering totals per day as CSV (RFC 4180), columns named as
+/// the JSON summary's `day_totals` fields.
+#[utoipa::path(get, path = "/v1/teams/{team_id}/plan/totals.csv", tag = "plans",
+    params(("team_id" = Uuid, Path), PlanParams, ("if-none-match" = Option<String>, Header)),
+    responses(
+        (status = 200, description = "CSV, one row per day; columns are the fields of DayTotal", content_type = "text/csv", body = String, headers(("etag" = String))),
+        (status = 304, description = "Unchanged since the ETag you sent")))]
+async fn team_totals_csv(
+    State(state): State<AppState>,
+    caller: Caller,
+    headers: HeaderMap,
+    PathIds(team_id): PathIds<Uuid>,
+    QueryParams(q): QueryParams<PlanParams>,
+) -> Result<Response> {
+    let team = visible_team(&state, &caller, team_id).await?;
+    let span = span_of(&q, &team)?;
+    let version = audit::team_version(&state.db.read, team_id).await?;
+    let etag = plan_etag(version, span, &q.variant("totals-csv"));
+    if let Some(res) = not_modified(&headers, &etag)? {
+        return Ok(res);
     }
-    Ok(with_etag(res, &etag))
+    let (_, weeks) = compute(&state, team, &q, span, None).await?;
+    let bytes = records_csv(&TOTALS_CSV_COLUMNS, &day_totals(&summary_rows(&weeks)))
+        .map_err(ApiError::internal)?;
+    Ok(csv_response(
+        bytes,
+        &format!("totals-{}-{}.csv", span.0, span.1),
+        &etag,
+    ))
+}
+
+#[cfg(test)]
+mod csv_tests {
+    use super::*;
+
+    fn keys<T: Serialize>(value: &T) -> Vec<String> {
+        let mut keys: Vec<String> = serde_json::to_value(value)
+            .unwrap()
+            .as_object()
+            .unwrap()
+            .keys()
+            .cloned()
+            .collect();
+        keys.sort();
+        keys
+    }
+
+    fn sorted(columns: &[&str]) -> Vec<String> {
+        let mut c: Vec<String> = columns.iter().map(|s| s.to_string()).collect();
+        c.sort();
+        c
+    }
+
+    #[test]
+    fn csv_columns_are_exactly_the_json_fields() {
+        let row = SummaryRow {
+            athlete_id: Uuid::nil(),
+            display_name: "A".into(),
+            date: NaiveDate::from_ymd_opt(2026, 12, 7).unwrap(),
+            load_band: LoadBand::Light,
+            carbohydrate_g_per_kg: 3.0,
+            carbohydrate_g: 200.0,
+            carbohydrate_pinned: false,
+            protein_g: 100.0,
+            fat_g: 60.0,
+            energy_kcal: 2000.0,
+            energy_availability: 45.0,
+            energy_availability_band: EnergyAvailabilityBand::Adequate,
+            training_minutes: 0.0,
+            sessions: 0,
+            muscle_glycogen_start: 1.0,
+            muscle_glycogen_end: 1.0,
+            lowest_session_start_glycogen: None,
+            warnings: vec![],
+        };
+        assert_eq!(keys(&row), sorted(&SUMMARY_CSV_COLUMNS));
+        assert_eq!(keys(&day_totals(&[row])[0]), sorted(&TOTALS_CSV_COLUMNS));
+    }
+
+    #[test]
+    fn negative_zero_is_written_as_zero_and_formulas_are_neutralised() {
+        assert_eq!(csv_cell(&serde_json::json!(-0.0)), "0");
+        assert_eq!(csv_cell(&serde_json::json!(-0.0001)), "0");
+        assert_eq!(csv_cell(&serde_json::json!(-1.5)), "-1.5");
+        assert_eq!(csv_cell(&serde_json::json!("=1+2")), "'=1+2");
+        assert_eq!(csv_cell(&serde_json::json!("Ada")), "Ada");
+    }
 }
 
 #[derive(Debug, Deserialize, IntoParams)]
@@ -765,17 +1037,17 @@ pub struct PlanChanges {
     pub days: Vec<DayChange>,
 }
 
-fn diff_rows(before: &[SummaryRow], after: &[SummaryRow]) -> Vec<DayChange> {
-    let key = |r: &SummaryRow| (r.athlete_id, r.date);
+fn diff_rows(before: &[SnapshotRow], after: &[SnapshotRow]) -> Vec<DayChange> {
+    let key = |r: &SnapshotRow| (r.row.athlete_id, r.row.date);
     let old: HashMap<_, _> = before.iter().map(|r| (key(r), r)).collect();
     let new: HashMap<_, _> = after.iter().map(|r| (key(r), r)).collect();
     let mut out = Vec::new();
     for r in after {
         match old.get(&key(r)) {
             None => out.push(DayChange {
-                athlete_id: r.athlete_id,
-                display_name: r.display_name.clone(),
-                date: r.date,
+                athlete_id: r.row.athlete_id,
+                display_name: r.row.display_name.clone(),
+                date: r.row.date,
                 kind: "added".into(),
                 fields: Vec::new(),
             }),
@@ -797,9 +1069,9 @@ fn diff_rows(before: &[SummaryRow], after: &[SummaryRow]) -> Vec<DayChange> {
                     .collect();
                 if !fields.is_empty() {
                     out.push(DayChange {
-                        athlete_id: r.athlete_id,
-                        display_name: r.display_name.clone(),
-                        date: r.date,
+                        athlete_id: r.row.athlete_id,
+                        display_name: r.row.display_name.clone(),
+                        date: r.row.date,
                         kind: "changed".into(),
                         fields,
                     });
@@ -810,9 +1082,9 @@ fn diff_rows(before: &[SummaryRow], after: &[SummaryRow]) -> Vec<DayChange> {
     for r in before {
         if !new.contains_key(&key(r)) {
             out.push(DayChange {
-                athlete_id: r.athlete_id,
-                display_name: r.display_name.clone(),
-                date: r.date,
+                athlete_id: r.row.athlete_id,
+                display_name: r.row.display_name.clone(),
+                date: r.row.date,
                 kind: "removed".into(),
                 fields: Vec::new(),
             });
@@ -858,10 +1130,11 @@ async fn plan_changes(
                 "no plan of that version and span was computed (read the summary for the same span first; recent versions are kept)",
             )
         })?;
-    let before: Vec<SummaryRow> = serde_json::from_str(&before_json).map_err(ApiError::internal)?;
+    let before: Vec<SnapshotRow> =
+        serde_json::from_str(&before_json).map_err(ApiError::internal)?;
     let (_, weeks) = compute(&state, team, &q, span, None).await?;
     save_snapshot(&state, team_id, version, span, &weeks).await;
-    let after = summary_rows(&weeks);
+    let after = snapshot_rows(&weeks);
     let input_changes = audit::changes(&state.db.read, team_id, c.since_version, 500).await?;
     Ok(json(
         StatusCode::OK,
@@ -896,6 +1169,7 @@ async fn athlete_plan(
         Ok(res) => return Ok(res),
         Err(key) => key,
     };
+    let zone = team.tz();
     let (data, weeks) = compute(&state, team, &q, span, Some(athlete_id)).await?;
     let Some(plan) = athlete_plans(
         &state,
@@ -910,34 +1184,28 @@ async fn athlete_plan(
             "This athlete is archived: archived athletes are not planned. Set status to active to plan them.".into(),
         ));
     };
-    store_and_respond(&state, &etag, &plan)
+    store_and_respond(&state, &headers, &etag, &zone, &plan)
 }
 
 #[derive(Debug, Deserialize, IntoParams)]
 #[serde(deny_unknown_fields)]
 #[into_params(parameter_in = Query)]
 pub struct ChangesFeedParams {
-    /// The last `seq` you processed (0 for everything).
+    /// The last `seq` you processed (0 for everything). To poll later, keep
+    /// the `seq` of the last change you processed and pass it here.
     #[param(minimum = 0)]
     since: Option<i64>,
-    /// At most this many changes (1 to 200, default 100).
+    /// Items per page, 1 to 200 (default 50).
     #[param(minimum = 1, maximum = 200)]
     limit: Option<u32>,
-}
-
-/// The team's changes after a cursor: integrators poll this cheaply and
-/// re-read plans only when something changed.
-#[derive(Debug, Serialize, ToSchema)]
-pub struct ChangesFeed {
-    pub changes: Vec<audit::Change>,
-    /// Pass as `since` next time.
-    pub next_since: i64,
+    /// The `next_cursor` of the previous page.
+    cursor: Option<String>,
 }
 
 /// A cheap changes feed of the team's inputs (cursor `since`).
 #[utoipa::path(get, path = "/v1/teams/{team_id}/changes", tag = "plans",
     params(("team_id" = Uuid, Path), ChangesFeedParams),
-    responses((status = 200, description = "Changes after `since`, oldest first", body = ChangesFeed)))]
+    responses((status = 200, description = "One page of changes after `since`, oldest first", body = Page<audit::Change>)))]
 async fn changes_feed(
     State(state): State<AppState>,
     caller: Caller,
@@ -949,18 +1217,16 @@ async fn changes_feed(
     if since < 0 {
         return Err(ApiError::field("since", "must be 0 or more"));
     }
-    let limit = match q.limit {
-        None => 100,
-        Some(n) if (1..=200).contains(&n) => n,
-        Some(_) => return Err(ApiError::field("limit", "must be between 1 and 200")),
+    let page = PageParams {
+        limit: q.limit,
+        cursor: q.cursor,
     };
-    let changes = audit::changes(&state.db.read, team_id, since, limit).await?;
-    let next_since = changes.last().map_or(since, |c| c.seq);
+    let limit = page.limit()?;
+    let cursor: Option<i64> = page.after()?;
+    let after = since.max(cursor.unwrap_or(0));
+    let changes = audit::changes(&state.db.read, team_id, after, limit + 1).await?;
     Ok(json(
         StatusCode::OK,
-        &ChangesFeed {
-            changes,
-            next_since,
-        },
+        &Page::from_overfetch(changes, limit, |c| c.seq),
     ))
 }

@@ -81,6 +81,7 @@ async fn list_sessions(
     };
     let limit = page.limit()?;
     let after: Option<SessionKey> = page.after()?;
+    crate::domain::check_filter_dates(&[("from", q.from), ("to", q.to)])?;
     let from = q.from.unwrap_or(EARLIEST);
     let to = q.to.unwrap_or(LATEST);
     if to < from {
@@ -227,16 +228,18 @@ async fn delete_session(
 
 /// The participation exceptions of a session; athletes not listed take full part.
 #[utoipa::path(get, path = "/v1/sessions/{session_id}/participation", tag = "sessions",
-    params(("session_id" = Uuid, Path)),
-    responses((status = 200, description = "Exceptions", body = Vec<Participation>)))]
+    params(("session_id" = Uuid, Path), PageParams),
+    responses((status = 200, description = "One page of exceptions, by athlete id", body = Page<Participation>)))]
 async fn list_participation(
     State(state): State<AppState>,
     caller: Caller,
     PathIds(id): PathIds<Uuid>,
+    QueryParams(page): QueryParams<PageParams>,
 ) -> Result<Response> {
     visible_session(&state, &caller, id).await?;
     let items = sessions::list_participation(&state.db, id).await?;
-    Ok(json(StatusCode::OK, &items))
+    let page = Page::from_sorted(items, &page, false, |p| p.athlete_id)?;
+    Ok(json(StatusCode::OK, &page))
 }
 
 async fn session_and_athlete(

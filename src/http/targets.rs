@@ -16,7 +16,7 @@ use super::auth::Caller;
 use super::extract::{IfMatch, JsonBody, PathIds, QueryParams};
 use super::{json, team_today, versioned};
 use crate::AppState;
-use crate::domain::check_text;
+use crate::domain::paging::{Page, PageParams};
 use crate::domain::session::check_date;
 use crate::engine::Issues;
 use crate::engine::day::plan::{DayInput, DayPlan, plan_day};
@@ -79,12 +79,17 @@ pub struct PinListParams {
     from: Option<NaiveDate>,
     /// Last date, inclusive (default: `from` + 90 days).
     to: Option<NaiveDate>,
+    /// Items per page, 1 to 200 (default 50).
+    #[param(minimum = 1, maximum = 200)]
+    limit: Option<u32>,
+    /// The `next_cursor` of the previous page.
+    cursor: Option<String>,
 }
 
 /// An athlete's pinned targets in a date span.
 #[utoipa::path(get, path = "/v1/athletes/{athlete_id}/pins", tag = "targets",
     params(("athlete_id" = Uuid, Path), PinListParams),
-    responses((status = 200, description = "Pins by date", body = Vec<DayPin>)))]
+    responses((status = 200, description = "One page of pins by date", body = Page<DayPin>)))]
 async fn list_pins(
     State(state): State<AppState>,
     caller: Caller,
@@ -101,12 +106,18 @@ async fn list_pins(
             (from, from + chrono::Days::new(90))
         }
     };
+    crate::domain::check_filter_dates(&[("from", Some(from)), ("to", Some(to))])?;
     if to < from {
         return Err(ApiError::field("to", "must not be before from"));
     }
+    let page = PageParams {
+        limit: q.limit,
+        cursor: q.cursor,
+    };
+    let pins = planning::pins_for_athlete(&state.db, id, (from, to)).await?;
     Ok(json(
         StatusCode::OK,
-        &planning::pins_for_athlete(&state.db, id, (from, to)).await?,
+        &Page::from_sorted(pins, &page, false, |p| p.local_date)?,
     ))
 }
 
@@ -185,7 +196,7 @@ async fn put_pin(
         );
     }
     if let Some(note) = &input.note {
-        check_text(&mut issues, "note", note, 0, 500);
+        crate::domain::check_note(&mut issues, "note", note, 0, 500);
     }
     for issue in &mut issues.0 {
         issue.field = issue.field.trim_start_matches('.').to_owned();
@@ -290,12 +301,13 @@ impl SweatTestInput {
 
 /// An athlete's sweat tests, newest first; the latest sets plans' fluid targets.
 #[utoipa::path(get, path = "/v1/athletes/{athlete_id}/sweat-tests", tag = "targets",
-    params(("athlete_id" = Uuid, Path)),
-    responses((status = 200, description = "Tests with results", body = Vec<SweatTestResult>)))]
+    params(("athlete_id" = Uuid, Path), PageParams),
+    responses((status = 200, description = "One page of tests with results, newest first", body = Page<SweatTestResult>)))]
 async fn list_sweat_tests(
     State(state): State<AppState>,
     caller: Caller,
     PathIds(id): PathIds<Uuid>,
+    QueryParams(page): QueryParams<PageParams>,
 ) -> Result<Response> {
     visible_athlete(&state, &caller, id).await?;
     let tests: Vec<SweatTestResult> = planning::sweat_tests(&state.db, id)
@@ -303,7 +315,8 @@ async fn list_sweat_tests(
         .into_iter()
         .map(with_result)
         .collect();
-    Ok(json(StatusCode::OK, &tests))
+    let page = Page::from_sorted(tests, &page, true, |t| (t.test.tested_on, t.test.id))?;
+    Ok(json(StatusCode::OK, &page))
 }
 
 /// Record a sweat test.
@@ -329,7 +342,7 @@ async fn add_sweat_test(
     }
     check_date(&mut issues, "tested_on", input.tested_on);
     if let Some(note) = &input.note {
-        check_text(&mut issues, "note", note, 0, 500);
+        crate::domain::check_note(&mut issues, "note", note, 0, 500);
     }
     if let Err(e) = sweat_rate(&input.measurements()) {
         issues.0.extend(e.issues);

@@ -140,14 +140,17 @@ pub struct AuditParams {
     /// Entries after this sequence number (the `seq` of the last one you have).
     #[param(minimum = 0)]
     after: Option<i64>,
+    /// Items per page, 1 to 200 (default 50).
     #[param(minimum = 1, maximum = 200)]
     limit: Option<u32>,
+    /// The `next_cursor` of the previous page.
+    cursor: Option<String>,
 }
 
 /// The team's change trail: who changed what and when, oldest first.
 #[utoipa::path(get, path = "/v1/teams/{team_id}/audit", tag = "teams",
     params(("team_id" = Uuid, Path), AuditParams),
-    responses((status = 200, description = "Entries", body = Vec<audit::AuditEntry>)))]
+    responses((status = 200, description = "One page of entries, oldest first", body = Page<audit::AuditEntry>)))]
 async fn list_audit(
     State(state): State<AppState>,
     caller: Caller,
@@ -155,14 +158,20 @@ async fn list_audit(
     QueryParams(q): QueryParams<AuditParams>,
 ) -> Result<Response> {
     caller.write(team_id, "team")?;
-    let limit = PageParams {
+    super::visible_team(&state, &caller, team_id).await?;
+    let page = PageParams {
         limit: q.limit,
-        cursor: None,
-    }
-    .limit()?;
+        cursor: q.cursor,
+    };
+    let limit = page.limit()?;
+    let cursor: Option<i64> = page.after()?;
     if q.after.is_some_and(|a| a < 0) {
         return Err(ApiError::field("after", "must be 0 or more"));
     }
-    let entries = audit::list(&state.db.read, Some(team_id), q.after.unwrap_or(0), limit).await?;
-    Ok(json(StatusCode::OK, &entries))
+    let after = q.after.unwrap_or(0).max(cursor.unwrap_or(0));
+    let entries = audit::list(&state.db.read, Some(team_id), after, limit + 1).await?;
+    Ok(json(
+        StatusCode::OK,
+        &Page::from_overfetch(entries, limit, |e| e.seq),
+    ))
 }

@@ -141,14 +141,22 @@ pub async fn list(
     .collect()
 }
 
+/// Entity types whose changes never change a plan: access credentials.
+/// Creating a token or a calendar-feed link must not throw away every
+/// client's cached plan.
+pub const NOT_PLAN_INPUTS: [&str; 2] = ["token", "calendar_feed"];
+
 /// The team's input version: the sequence number of its latest recorded
-/// change. Every write that can change a plan records an entry with the
-/// team id, so a plan's ETag can be derived without computing the plan.
+/// change to an input of its plan. Every write that can change a plan
+/// records an entry with the team id, so a plan's ETag can be derived
+/// without computing the plan.
 #[instrument(skip_all)]
 pub async fn team_version(pool: &sqlx::SqlitePool, team: Uuid) -> Result<i64, sqlx::Error> {
     let team = team.to_string();
+    // Keep this list equal to NOT_PLAN_INPUTS (a unit test checks it).
     let seq = sqlx::query_scalar!(
-        r#"SELECT COALESCE(MAX(seq), 0) as "seq!: i64" FROM audit_log WHERE team_id = ?"#,
+        r#"SELECT COALESCE(MAX(seq), 0) as "seq!: i64" FROM audit_log
+           WHERE team_id = ? AND entity_type NOT IN ('token', 'calendar_feed')"#,
         team
     )
     .fetch_one(pool)
@@ -219,4 +227,18 @@ pub async fn about(
     .into_iter()
     .map(AuditRow::into_entry)
     .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    #[test]
+    fn the_version_query_skips_exactly_the_non_plan_inputs() {
+        let source = include_str!("audit.rs");
+        let listed = super::NOT_PLAN_INPUTS
+            .iter()
+            .map(|t| format!("'{t}'"))
+            .collect::<Vec<_>>()
+            .join(", ");
+        assert!(source.contains(&format!("NOT IN ({listed})")));
+    }
 }

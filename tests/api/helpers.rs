@@ -298,7 +298,7 @@ impl TestApp {
         let res = self
             .get(&format!("/v1/teams/{team}/audit?limit=200"), &self.admin)
             .await;
-        match body(res, 200).await {
+        match body(res, 200).await["items"].take() {
             Value::Array(entries) => entries,
             other => panic!("audit is not a list: {other}"),
         }

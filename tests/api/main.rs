@@ -8,6 +8,7 @@ mod athletes;
 mod basics;
 mod durability;
 mod faults;
+mod integrator;
 mod malformed;
 mod openapi_doc;
 mod participation;

@@ -70,7 +70,7 @@ async fn a_planner_sets_reads_lists_changes_and_removes_an_exception() {
         200,
     )
     .await;
-    assert_eq!(list, json!([stored]));
+    assert_eq!(list, json!({"items": [stored], "next_cursor": null}));
 
     let rehab = json!({"mode": "replaced", "segments": [{"label": "bike", "minutes": 30, "intensity": {"form": "cycling", "watts": 150}}]});
     let res = app.put_if(&s.path(), &planner, &rehab, "\"v1\"").await;
@@ -109,7 +109,7 @@ async fn a_planner_sets_reads_lists_changes_and_removes_an_exception() {
         200,
     )
     .await;
-    assert_eq!(list, json!([]));
+    assert_eq!(list, json!({"items": [], "next_cursor": null}));
 
     let trail = app.audit(s.team).await;
     let actions: Vec<&str> = trail

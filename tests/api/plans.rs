@@ -197,6 +197,27 @@ async fn substitutes_are_prepared_like_starters_and_the_day_after_follows_the_mi
 async fn the_csv_parses_and_its_daily_totals_equal_the_sum_of_its_rows() {
     let app = spawn_app().await;
     let team = demo(&app).await;
+    let totals_csv = app
+        .get(
+            &format!("/v1/teams/{team}/plan/totals.csv?from={MONDAY}"),
+            &app.admin,
+        )
+        .await
+        .text()
+        .await
+        .unwrap();
+    let mut totals: std::collections::BTreeMap<String, [f64; 4]> = Default::default();
+    let mut reader = csv::Reader::from_reader(totals_csv.as_bytes());
+    let headers = reader.headers().unwrap().clone();
+    for record in reader.records() {
+        let record = record.unwrap();
+        let get = |name: &str| &record[headers.iter().position(|h| h == name).unwrap()];
+        totals.insert(
+            get("date").to_owned(),
+            ["carbohydrate_g", "protein_g", "fat_g", "energy_kcal"]
+                .map(|c| get(c).parse().unwrap()),
+        );
+    }
     let res = app
         .get(
             &format!("/v1/teams/{team}/plan/summary.csv?from={MONDAY}"),
@@ -215,21 +236,16 @@ async fn the_csv_parses_and_its_daily_totals_equal_the_sum_of_its_rows() {
     let headers = reader.headers().unwrap().clone();
     let col = |name: &str| headers.iter().position(|h| h == name).unwrap();
     let mut sums: std::collections::BTreeMap<String, [f64; 4]> = Default::default();
-    let mut totals: std::collections::BTreeMap<String, [f64; 4]> = Default::default();
     let mut athlete_rows = 0;
     for record in reader.records() {
         let record = record.unwrap();
         let values = ["carbohydrate_g", "protein_g", "fat_g", "energy_kcal"]
             .map(|c| record[col(c)].parse::<f64>().unwrap());
         let date = record[col("date")].to_owned();
-        if &record[col("athlete")] == "TOTAL" {
-            totals.insert(date, values);
-        } else {
-            athlete_rows += 1;
-            let s = sums.entry(date).or_default();
-            for i in 0..4 {
-                s[i] += values[i];
-            }
+        athlete_rows += 1;
+        let s = sums.entry(date).or_default();
+        for i in 0..4 {
+            s[i] += values[i];
         }
     }
     assert_eq!(athlete_rows, 25 * 7);
@@ -349,22 +365,34 @@ async fn the_changes_feed_pages_with_its_cursor() {
         .json()
         .await
         .unwrap();
-    assert_eq!(first["changes"].as_array().unwrap().len(), 5);
-    let next = first["next_since"].as_i64().unwrap();
+    assert_eq!(first["items"].as_array().unwrap().len(), 5);
+    let last = first["items"][4]["seq"].as_i64().unwrap();
+    let cursor = first["next_cursor"].as_str().unwrap();
     let second: Value = app
         .get(
-            &format!("/v1/teams/{team}/changes?since={next}&limit=5"),
+            &format!("/v1/teams/{team}/changes?cursor={cursor}&limit=5"),
             &app.admin,
         )
         .await
         .json()
         .await
         .unwrap();
-    assert!(second["changes"][0]["seq"].as_i64().unwrap() > next);
+    assert!(second["items"][0]["seq"].as_i64().unwrap() > last);
     assert!(
-        second["changes"][0].get("after").is_none(),
+        second["items"][0].get("after").is_none(),
         "the feed carries no values"
     );
+    // Polling later resumes from the last seq processed.
+    let later: Value = app
+        .get(
+            &format!("/v1/teams/{team}/changes?since={last}&limit=5"),
+            &app.admin,
+        )
+        .await
+        .json()
+        .await
+        .unwrap();
+    assert_eq!(later["items"][0]["seq"], second["items"][0]["seq"]);
 }
 
 #[tokio::test]
@@ -421,15 +449,16 @@ async fn the_calendar_feed_parses_and_keeps_local_times_across_a_clock_change() 
         })
         .filter_map(|e| icalendar::Component::property_value(e, "DTSTART").map(str::to_owned))
         .collect();
-    // 10:00 local is 10:00 UTC in GMT and 09:00 UTC in BST.
-    assert!(
-        starts.contains(&"20270326T100000Z".to_owned()),
-        "{starts:?}"
-    );
-    assert!(
-        starts.contains(&"20270329T090000Z".to_owned()),
-        "{starts:?}"
-    );
+    // Written in the team's zone: 10:00 on both sides of the change, with
+    // the VTIMEZONE that says 10:00 is GMT before and BST after.
+    assert!(starts.contains(&"20270326T100000".to_owned()), "{starts:?}");
+    assert!(starts.contains(&"20270329T100000".to_owned()), "{starts:?}");
+    assert!(text.contains("DTSTART;TZID=Europe/London:20270326T100000"));
+    assert!(text.contains("BEGIN:VTIMEZONE\r\nTZID:Europe/London\r\n"));
+    // UK clocks go forward at 01:00 GMT on the last Sunday of March.
+    assert!(text.contains(
+        "BEGIN:DAYLIGHT\r\nDTSTART:20270328T010000\r\nTZOFFSETFROM:+0000\r\nTZOFFSETTO:+0100\r\n"
+    ));
     // Revoked links stop working at once.
     let feed = created["id"].as_str().unwrap();
     let revoked = app

@@ -610,7 +610,7 @@ async fn the_audit_trail_records_who_changed_what_with_before_and_after_and_page
         200,
     )
     .await;
-    let trail = trail.as_array().unwrap();
+    let trail = trail["items"].as_array().unwrap();
     assert!(
         trail.iter().all(|e| e["team_id"] == team.to_string()),
         "only this team's entries"
@@ -644,16 +644,25 @@ async fn the_audit_trail_records_who_changed_what_with_before_and_after_and_page
         200,
     )
     .await;
-    let after = first_two[1]["seq"].as_i64().unwrap();
+    let after = first_two["items"][1]["seq"].as_i64().unwrap();
     let rest = body(
         app.get(&format!("/v1/teams/{team}/audit?after={after}"), &planner)
             .await,
         200,
     )
     .await;
-    let mut joined = first_two.as_array().unwrap().clone();
-    joined.extend(rest.as_array().unwrap().iter().cloned());
+    let mut joined = first_two["items"].as_array().unwrap().clone();
+    joined.extend(rest["items"].as_array().unwrap().iter().cloned());
     assert_eq!(&joined, trail);
+    // The cursor of the first page leads to the same rest.
+    let cursor = first_two["next_cursor"].as_str().unwrap();
+    let by_cursor = body(
+        app.get(&format!("/v1/teams/{team}/audit?cursor={cursor}"), &planner)
+            .await,
+        200,
+    )
+    .await;
+    assert_eq!(by_cursor["items"], rest["items"]);
 
     let reader = app.token("reader", team).await;
     problem(

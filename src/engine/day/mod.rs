@@ -10,7 +10,7 @@
 //! - [`notes`]: warnings with stable codes, and explanations.
 //! - [`plan`]: puts them together for one date.
 //!
-//! Depends on [`super::profile`] and [`super::sources`] only; the week planner
+//! Depends on [`crate::engine::profile`] and [`super::sources`] only; the week planner
 //! feeds it session work computed by [`super::physiology`].
 
 pub mod budget;

@@ -11,7 +11,7 @@
 //!   training status and muscle glycogen.
 //! - [`session`]: one athlete's session simulated minute by minute.
 //!
-//! Depends on [`super::glycogen`] for stores; nothing here knows about days
+//! Depends on [`crate::engine::glycogen::stores`] for stores; nothing here knows about days
 //! or weeks.
 
 pub mod athlete;
