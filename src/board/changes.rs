@@ -69,7 +69,7 @@ fn show(v: &serde_json::Value) -> String {
         serde_json::Value::Number(n) => n
             .as_f64()
             .map(|f| {
-                let s = format!("{f:.2}");
+                let s = format!("{f:.3}");
                 s.trim_end_matches('0').trim_end_matches('.').to_owned()
             })
             .unwrap_or_default(),
@@ -173,38 +173,37 @@ fn render(out: &mut String, c: &view::PlanChanges, week: &str) {
     }
     let _ = write!(
         out,
-        r#"<p>{} athlete-day(s) changed.</p><table class="list changes"><thead><tr><th scope="col">Athlete</th><th scope="col">Day</th><th scope="col">Figure</th><th scope="col">Before</th><th scope="col">After</th></tr></thead><tbody>"#,
+        r#"<p>{} athlete-day(s) changed.</p><table class="list changes"><thead><tr><th scope="col">Athlete</th><th scope="col">Day</th><th scope="col">What moved (before → after)</th></tr></thead><tbody>"#,
         c.days.len()
     );
     for d in &c.days {
-        let who = format!(
-            r#"<a href="/board/athletes/{}?week={}#d-{}">{}</a>"#,
+        let moved: Vec<String> = d
+            .fields
+            .iter()
+            .filter(|f| f.field != "athlete_id" && f.field != "date")
+            .map(|f| {
+                format!(
+                    "<li>{}: {} → {}</li>",
+                    esc(&words(&f.field)),
+                    esc(&show(&f.before)),
+                    esc(&show(&f.after))
+                )
+            })
+            .collect();
+        let what = if moved.is_empty() {
+            esc(&d.kind).to_string()
+        } else {
+            format!("<ul class=\"moved\">{}</ul>", moved.concat())
+        };
+        let _ = write!(
+            out,
+            r#"<tr><th scope="row"><a href="/board/athletes/{}?week={}#d-{}">{}</a></th><td>{}</td><td>{what}</td></tr>"#,
             d.athlete_id,
             enc(week),
             d.date,
-            esc(&d.display_name)
+            esc(&d.display_name),
+            view::short_date(d.date),
         );
-        if d.fields.is_empty() {
-            let _ = write!(
-                out,
-                r#"<tr><td>{who}</td><td>{}</td><td colspan="3">{}</td></tr>"#,
-                view::short_date(d.date),
-                esc(&d.kind)
-            );
-        }
-        for f in &d.fields {
-            if f.field == "athlete_id" || f.field == "date" {
-                continue;
-            }
-            let _ = write!(
-                out,
-                r#"<tr><td>{who}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td></tr>"#,
-                view::short_date(d.date),
-                esc(&words(&f.field)),
-                esc(&show(&f.before)),
-                esc(&show(&f.after))
-            );
-        }
     }
     out.push_str("</tbody></table>");
 }

@@ -178,7 +178,7 @@ pub fn glycogen_week(
 /// energy, stacked, every 5 minutes.
 pub fn fuel_share(mix: &SquadFuelMix, total_minutes: f64) -> String {
     let (w, h) = (960.0, 260.0);
-    let (left, right, top, bottom) = (52.0, 110.0, 12.0, 36.0);
+    let (left, right, top, bottom) = (52.0, 130.0, 12.0, 36.0);
     let span = total_minutes.max(1.0);
     let x = |m: f64| left + (w - left - right) * (m / span).clamp(0.0, 1.0);
     let y = |f: f64| top + (h - top - bottom) * (1.0 - f.clamp(0.0, 1.0));
@@ -215,7 +215,8 @@ pub fn fuel_share(mix: &SquadFuelMix, total_minutes: f64) -> String {
             x(mix.share[mix.share.len() - 1].0) - left,
             h - top - bottom
         );
-        for (idx, dash) in [(2usize, "4 3"), (3usize, "4 3")] {
+        // The lowest runs over the dark area, the highest over the light one.
+        for (idx, colour) in [(2usize, WHITE), (3usize, INK)] {
             let mut d = String::new();
             for (i, p) in mix.share.iter().enumerate() {
                 let v = if idx == 2 { p.2 } else { p.3 };
@@ -229,7 +230,7 @@ pub fn fuel_share(mix: &SquadFuelMix, total_minutes: f64) -> String {
             }
             let _ = write!(
                 out,
-                r#"<path d="{d}" fill="none" stroke="{WHITE}" stroke-width="1.5" stroke-dasharray="{dash}"/>"#
+                r#"<path d="{d}" fill="none" stroke="{colour}" stroke-width="1.5" stroke-dasharray="4 3"/>"#
             );
         }
     }
@@ -286,7 +287,7 @@ fn axis_minutes(out: &mut String, span: f64, x: &dyn Fn(f64) -> f64, y0: f64) {
 /// Carbohydrate and fat oxidised per minute, segment by segment (squad means).
 pub fn fuel_rate(mix: &SquadFuelMix, total_minutes: f64) -> String {
     let (w, h) = (960.0, 240.0);
-    let (left, right, top, bottom) = (52.0, 110.0, 12.0, 36.0);
+    let (left, right, top, bottom) = (52.0, 130.0, 12.0, 36.0);
     let span = total_minutes.max(1.0);
     let y_max = mix
         .segments

@@ -135,6 +135,8 @@ def axe_check(page, name, serious):
 def shot(page, name):
     SHOTS.mkdir(parents=True, exist_ok=True)
     page.screenshot(path=str(SHOTS / f"{name}.png"), full_page=True)
+    # The first screenful, as a person opening the page sees it (for docs/).
+    page.screenshot(path=str(SHOTS / f"{name}-top.png"))
 
 
 def sign_in(page, base, token):
