@@ -12,10 +12,18 @@ use super::html::{self, esc};
 use super::{Board, form_fields, query_pairs, query_value};
 use crate::store::{board_sessions, tokens};
 
-/// Only board paths are followed after sign-in (no open redirect).
+/// Only board paths are followed after sign-in (no open redirect, and
+/// nothing a Location header cannot carry).
 fn safe_next(next: Option<&str>) -> &str {
     match next {
-        Some(n) if n.starts_with("/board/") && !n.starts_with("//") && !n.contains('\\') => n,
+        Some(n)
+            if n.starts_with("/board/")
+                && !n.contains('\\')
+                && n.len() <= 2048
+                && n.bytes().all(|b| b.is_ascii_graphic()) =>
+        {
+            n
+        }
         _ => "/board",
     }
 }
@@ -173,4 +181,22 @@ pub async fn sign_out(
         auth::cleared_cookie(board.app.config.board_secure_cookie),
     );
     res
+}
+
+#[cfg(test)]
+mod tests {
+    use super::safe_next;
+
+    #[test]
+    fn only_plain_board_paths_are_followed_after_sign_in() {
+        assert_eq!(
+            safe_next(Some("/board/teams/x?week=2026-W50")),
+            "/board/teams/x?week=2026-W50"
+        );
+        assert_eq!(safe_next(Some("//evil.example/board/")), "/board");
+        assert_eq!(safe_next(Some("https://evil.example")), "/board");
+        assert_eq!(safe_next(Some("/board/\r\nSet-Cookie: x")), "/board");
+        assert_eq!(safe_next(Some("/board/\\evil")), "/board");
+        assert_eq!(safe_next(None), "/board");
+    }
 }
