@@ -54,6 +54,15 @@ pub struct Config {
     #[arg(long = "plan-cache-mib", value_name = "MIB", env = "GLYCOWEEK_PLAN_CACHE_MIB", default_value_t = 128,
           value_parser = clap::value_parser!(u64).range(0..=16384))]
     pub plan_cache_mib_raw: u64,
+    /// How long a squad-board sign-in lasts, hours (1 to 168).
+    #[arg(long, value_name = "HOURS", env = "GLYCOWEEK_BOARD_SESSION_HOURS", default_value_t = 12,
+          value_parser = clap::value_parser!(u32).range(1..=168))]
+    pub board_session_hours: u32,
+    /// Mark the board's session cookie `Secure` (and name it `__Host-…`):
+    /// set this when the service is reached over https, e.g. behind a
+    /// TLS-terminating reverse proxy.
+    #[arg(long, env = "GLYCOWEEK_BOARD_SECURE_COOKIE")]
+    pub board_secure_cookie: bool,
     #[arg(skip)]
     pub plan_cache_mib: usize,
     #[arg(skip)]
@@ -81,6 +90,8 @@ impl Config {
             ceiling_endpoint: false,
             plan_cache_mib_raw: 64,
             plan_cache_mib: 64,
+            board_session_hours: 12,
+            board_secure_cookie: false,
             body_limit_bytes: 1_048_576,
         }
     }

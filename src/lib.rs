@@ -4,13 +4,16 @@
 //! Architecture in one breath: [`engine`] is the pure physiology and
 //! planning computation; [`store`] is the only code that speaks SQL;
 //! [`http`] serves JSON with one module per resource; [`domain`] holds the
-//! shapes the API accepts and returns. [`build_app`] assembles the router
+//! shapes the API accepts and returns; [`board`] is the built-in web board
+//! for dietitians, a layer beside the API that reads and writes through it.
+//! [`build_app`] assembles the router
 //! and [`serve`] runs it, so the binary and the tests start the service the
 //! same way.
 
 #![forbid(unsafe_code)]
 
 pub mod bench;
+pub mod board;
 pub mod config;
 pub mod demo;
 pub mod domain;
@@ -105,6 +108,7 @@ pub fn build_app(state: AppState) -> Router {
         )
     };
 
+    let board = board::router(state.clone());
     let mut api = api;
     if config.ceiling_endpoint {
         api = api.route("/v1/ceiling", axum::routing::get(http::ceiling));
@@ -125,7 +129,7 @@ pub fn build_app(state: AppState) -> Router {
     } else {
         router
     };
-    router
+    let api = router
         .layer(DefaultBodyLimit::disable())
         .layer(RequestBodyLimitLayer::new(config.body_limit_bytes))
         .layer(TimeoutLayer::with_status_code(
@@ -133,7 +137,12 @@ pub fn build_app(state: AppState) -> Router {
             Duration::from_secs(config.request_timeout_secs),
         ))
         .layer(CatchPanicLayer::new())
-        .layer(axum::middleware::from_fn(http::middleware::problems))
+        .layer(axum::middleware::from_fn(http::middleware::problems));
+    // The board answers in HTML with its own limits and error pages, so it
+    // sits outside the problem+json rewriter; every other path, unknown
+    // routes included, goes to the API stack as before.
+    board
+        .fallback_service(api)
         // Security headers outside every layer that can answer by itself
         // (body limit, timeout, panics), so those answers carry them too.
         .layer(SetResponseHeaderLayer::if_not_present(

@@ -8,6 +8,7 @@
 
 pub mod athletes;
 pub mod audit;
+pub mod board_sessions;
 pub mod planning;
 pub mod plans;
 pub mod sessions;

@@ -6,6 +6,7 @@ mod helpers;
 
 mod athletes;
 mod basics;
+mod board;
 mod durability;
 mod faults;
 mod integrator;
