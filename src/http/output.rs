@@ -98,10 +98,11 @@ fn walk(
 fn cite(map: &mut Map<String, Value>, sources: &mut Sources, labels: &HashSet<String>) {
     let is_citation =
         matches!(map.get(SOURCE_FIELD), Some(Value::String(s)) if !labels.contains(s));
-    if is_citation && !map.contains_key(SOURCE_ID_FIELD) {
-        if let Some(Value::String(text)) = map.remove(SOURCE_FIELD) {
-            map.insert(SOURCE_ID_FIELD.into(), Value::from(sources.id(text)));
-        }
+    if is_citation
+        && !map.contains_key(SOURCE_ID_FIELD)
+        && let Some(Value::String(text)) = map.remove(SOURCE_FIELD)
+    {
+        map.insert(SOURCE_ID_FIELD.into(), Value::from(sources.id(text)));
     }
 }
 
