@@ -193,7 +193,9 @@ pub async fn run(sizes: &[usize], weeks: &[u64], rounds: usize) -> Result<(), St
         );
     }
     println!();
-    println!("Engine time to plan a squad (single thread, median), ms; in brackets us per simulated athlete-day");
+    println!(
+        "Engine time to plan a squad (single thread, median), ms; in brackets us per simulated athlete-day"
+    );
     println!();
     print!("| athletes \\ weeks |");
     for w in &weeks {
@@ -328,12 +330,8 @@ pub async fn api_rounds(rounds: usize) -> Result<Vec<(&'static str, ApiFigures)>
             let minutes = if round % 2 == 0 { 30 } else { 0 };
             let start = session.start_time + chrono::Duration::minutes(minutes);
             let patch = format!("{{\"start_time\":\"{}\"}}", start.format("%H:%M"));
-            let (status, body) = send(
-                "PATCH",
-                format!("/v1/sessions/{}", session.id),
-                Some(patch),
-            )
-            .await?;
+            let (status, body) =
+                send("PATCH", format!("/v1/sessions/{}", session.id), Some(patch)).await?;
             if status != StatusCode::OK {
                 return Err(format!(
                     "PATCH answered {status}: {}",
@@ -517,7 +515,11 @@ mod tests {
         };
         let plain = squad_inputs(8, 1);
         for (k, varied) in varied_inputs(8, 1).iter().enumerate().skip(1) {
-            assert_ne!(json(varied), json(&plain[k]), "variation {k} changes the plan");
+            assert_ne!(
+                json(varied),
+                json(&plain[k]),
+                "variation {k} changes the plan"
+            );
         }
     }
 

@@ -12,6 +12,7 @@ pub mod middleware;
 pub mod openapi;
 pub mod plan;
 pub mod plan_cache;
+pub mod precompressed;
 pub mod sessions;
 pub mod targets;
 pub mod teams;

@@ -197,31 +197,19 @@ async fn prepare(
     variant: &str,
 ) -> Result<std::result::Result<Response, PlanKey>> {
     let span = span_of(q, team)?;
-    let version = audit::team_version(&state.db.read, team.id).await?;
+    let version = audit::team_version_memo(&state.db, team.id).await?;
     let etag = plan_etag(version, span, &q.variant(variant));
     if let Some(res) = not_modified(headers, &etag)? {
         return Ok(Ok(res));
     }
-    if let Some(res) = cached(state, &etag) {
-        return Ok(Ok(res));
+    if let Some(res) = super::precompressed::cached_response(&state.plan_cache, &etag, headers) {
+        return Ok(Ok(with_etag(res, &etag)));
     }
     Ok(Err(PlanKey {
         span,
         version,
         etag,
     }))
-}
-
-/// A response from the plan cache, if this exact plan was computed before.
-fn cached(state: &AppState, etag: &str) -> Option<Response> {
-    state.plan_cache.get(etag).map(|bytes| {
-        let mut res = (StatusCode::OK, bytes).into_response();
-        res.headers_mut().insert(
-            header::CONTENT_TYPE,
-            HeaderValue::from_static("application/json"),
-        );
-        with_etag(res, etag)
-    })
 }
 
 /// Serialises a plan, keeps it in the cache under its ETag, and responds with it.

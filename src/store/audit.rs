@@ -141,6 +141,18 @@ pub async fn list(
     .collect()
 }
 
+/// [`team_version`] through the read memo: no database round trip while
+/// nothing was written since it was last read.
+pub async fn team_version_memo(db: &super::Db, team: Uuid) -> Result<i64, sqlx::Error> {
+    if let Some(version) = db.memo.version(team) {
+        return Ok(version);
+    }
+    let ticket = db.memo.ticket();
+    let version = team_version(&db.read, team).await?;
+    db.memo.put_version(ticket, team, version);
+    Ok(version)
+}
+
 /// The team's input version: the sequence number of its latest recorded
 /// change. Every write that can change a plan records an entry with the
 /// team id, so a plan's ETag can be derived without computing the plan.

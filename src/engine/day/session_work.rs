@@ -181,9 +181,18 @@ pub(crate) fn validate_sessions(
             issues.push(format!("{field}[{i}].minutes"), "must be over 0 minutes");
         }
         if let Some(clock) = session.clock_minutes {
-            issues.range_with(|| format!("{field}[{i}].clock_minutes"), clock, 0.0, 720.0, "minutes");
+            issues.range_with(
+                || format!("{field}[{i}].clock_minutes"),
+                clock,
+                0.0,
+                720.0,
+                "minutes",
+            );
             if clock < session.minutes {
-                issues.push(format!("{field}[{i}].clock_minutes"), "must not be below minutes");
+                issues.push(
+                    format!("{field}[{i}].clock_minutes"),
+                    "must not be below minutes",
+                );
             }
         }
         issues.range_with(
@@ -208,7 +217,10 @@ pub(crate) fn validate_sessions(
             "kcal",
         );
         if session.net_kcal > session.gross_kcal {
-            issues.push(format!("{field}[{i}].net_kcal"), "must not exceed gross_kcal");
+            issues.push(
+                format!("{field}[{i}].net_kcal"),
+                "must not exceed gross_kcal",
+            );
         }
         issues.range_with(
             || format!("{field}[{i}].carbohydrate_g"),

@@ -220,7 +220,10 @@ impl PlanSettings {
         for (k, position) in self.team_sport_work_by_position.iter().enumerate() {
             let name = position.position_group.trim();
             if name.is_empty() || name.chars().count() > 60 {
-                issues.push(format!("{prefix}.team_sport_work_by_position[{k}].position_group"), "must be 1 to 60 characters");
+                issues.push(
+                    format!("{prefix}.team_sport_work_by_position[{k}].position_group"),
+                    "must be 1 to 60 characters",
+                );
             }
             issues.range_with(
                 || format!("{prefix}.team_sport_work_by_position[{k}].team_sport_work_factor"),
@@ -246,7 +249,13 @@ impl DayPins {
             );
         }
         if let Some(pin) = self.protein_g_per_kg {
-            issues.range_with(|| format!("{prefix}.protein_g_per_kg"), pin, 0.5, 4.0, "g/kg");
+            issues.range_with(
+                || format!("{prefix}.protein_g_per_kg"),
+                pin,
+                0.5,
+                4.0,
+                "g/kg",
+            );
         }
         if let Some(pin) = self.energy_kcal {
             issues.range_with(

@@ -135,11 +135,21 @@ pub(crate) fn validate_intensity_at(
 ) {
     match intensity {
         Intensity::FractionVo2max { fraction } => {
-            issues.range_with(|| format!("{}.fraction", at()), *fraction, 0.2, 1.2, "of VO2max");
+            issues.range_with(
+                || format!("{}.fraction", at()),
+                *fraction,
+                0.2,
+                1.2,
+                "of VO2max",
+            );
         }
-        Intensity::HeartRate { bpm } => {
-            issues.range_with(|| format!("{}.bpm", at()), *bpm, 30.0, 240.0, "beats per minute")
-        }
+        Intensity::HeartRate { bpm } => issues.range_with(
+            || format!("{}.bpm", at()),
+            *bpm,
+            30.0,
+            240.0,
+            "beats per minute",
+        ),
         Intensity::HeartRateReserve { fraction } => {
             issues.range_with(
                 || format!("{}.fraction", at()),
@@ -152,7 +162,9 @@ pub(crate) fn validate_intensity_at(
         Intensity::SessionRpe { rating } => {
             issues.range_with(|| format!("{}.rating", at()), *rating, 0.0, 10.0, "(CR10)")
         }
-        Intensity::Mets { mets } => issues.range_with(|| format!("{}.mets", at()), *mets, 1.0, 23.0, "METs"),
+        Intensity::Mets { mets } => {
+            issues.range_with(|| format!("{}.mets", at()), *mets, 1.0, 23.0, "METs")
+        }
         Intensity::Activity { activity } => {
             if activity_by_key(activity).is_none() {
                 issues.push(
@@ -165,7 +177,13 @@ pub(crate) fn validate_intensity_at(
             speed_kmh,
             grade_percent,
         } => {
-            issues.range_with(|| format!("{}.speed_kmh", at()), *speed_kmh, 4.0, 30.0, "km/h");
+            issues.range_with(
+                || format!("{}.speed_kmh", at()),
+                *speed_kmh,
+                4.0,
+                30.0,
+                "km/h",
+            );
             issues.range_with(
                 || format!("{}.grade_percent", at()),
                 *grade_percent,
@@ -178,7 +196,13 @@ pub(crate) fn validate_intensity_at(
             speed_kmh,
             grade_percent,
         } => {
-            issues.range_with(|| format!("{}.speed_kmh", at()), *speed_kmh, 1.0, 10.0, "km/h");
+            issues.range_with(
+                || format!("{}.speed_kmh", at()),
+                *speed_kmh,
+                1.0,
+                10.0,
+                "km/h",
+            );
             issues.range_with(
                 || format!("{}.grade_percent", at()),
                 *grade_percent,

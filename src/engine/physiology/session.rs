@@ -351,9 +351,9 @@ fn run(
             if elapsed + EPSILON >= next_point {
                 if full {
                     time_series.push(FuelPoint {
-                    minute: next_point,
-                    fraction_vo2max: fraction,
-                    carbohydrate_share: share,
+                        minute: next_point,
+                        fraction_vo2max: fraction,
+                        carbohydrate_share: share,
                         cumulative_carbohydrate_g: totals.carbohydrate_g,
                     });
                 }
@@ -392,7 +392,8 @@ fn run(
                     segment: Some(index),
                 });
             }
-            if full && !liver_low_warned && liver_g < LOW_LIVER_GLYCOGEN_FRACTION * capacity.liver_g {
+            if full && !liver_low_warned && liver_g < LOW_LIVER_GLYCOGEN_FRACTION * capacity.liver_g
+            {
                 liver_low_warned = true;
                 warnings.push(SessionWarning {
                     code: WarningCode::LiverGlycogenLow,
