@@ -52,6 +52,14 @@ pub struct Config {
     pub plan_cache_mib_raw: u64,
     #[arg(skip)]
     pub plan_cache_mib: usize,
+    /// Memory for per-athlete week plans, MiB (keyed by the athlete's whole
+    /// engine input, so a change recomputes only the athletes it reaches);
+    /// 0 turns the memo off.
+    #[arg(long = "plan-memo-mib", value_name = "MIB", env = "GLYCOWEEK_PLAN_MEMO_MIB", default_value_t = 32,
+          value_parser = clap::value_parser!(u64).range(0..=16384))]
+    pub plan_memo_mib_raw: u64,
+    #[arg(skip)]
+    pub plan_memo_mib: usize,
     #[arg(skip)]
     pub body_limit_bytes: usize,
 }
@@ -61,6 +69,7 @@ impl Config {
     pub fn finish(mut self) -> Self {
         self.body_limit_bytes = usize::try_from(self.body_limit_bytes_raw).unwrap_or(1_048_576);
         self.plan_cache_mib = usize::try_from(self.plan_cache_mib_raw).unwrap_or(128);
+        self.plan_memo_mib = usize::try_from(self.plan_memo_mib_raw).unwrap_or(32);
         self
     }
 
@@ -77,6 +86,8 @@ impl Config {
             ceiling_endpoint: false,
             plan_cache_mib_raw: 64,
             plan_cache_mib: 64,
+            plan_memo_mib_raw: 32,
+            plan_memo_mib: 32,
             body_limit_bytes: 1_048_576,
         }
     }

@@ -255,6 +255,7 @@ async fn compute(
         start_glycogen_fraction: q.start_glycogen_fraction,
         include_session_fuel: q.include_session_fuel.unwrap_or(false),
     };
+    let memo = state.plan_memo.clone();
     let result = tokio::task::spawn_blocking(move || {
         let athletes: Vec<Athlete> = data
             .athletes
@@ -262,7 +263,7 @@ async fn compute(
             .filter(|a| only.is_none_or(|id| a.id == id))
             .cloned()
             .collect();
-        let weeks = planner::plan_athletes(&data, &pins, &athletes, &options);
+        let weeks = planner::plan_athletes_with(&data, &pins, &athletes, &options, Some(&memo));
         (data, weeks)
     })
     .await
