@@ -50,6 +50,8 @@ pub struct AppState {
     pub plan_cache: Arc<http::plan_cache::PlanCache>,
     /// Week plans per athlete, keyed by the athlete's engine input.
     pub plan_memo: Arc<plan_memo::PlanMemo>,
+    /// Plan computations in flight, one per ETag.
+    pub plan_flights: Arc<http::single_flight::Flights>,
 }
 
 impl AppState {
@@ -61,6 +63,7 @@ impl AppState {
             config: Arc::new(config),
             plan_cache: Arc::new(http::plan_cache::PlanCache::new(cache_bytes)),
             plan_memo: Arc::new(plan_memo::PlanMemo::new(memo_bytes)),
+            plan_flights: Default::default(),
         }
     }
 }

@@ -14,6 +14,7 @@ pub mod plan;
 pub mod plan_cache;
 pub mod precompressed;
 pub mod sessions;
+pub mod single_flight;
 pub mod targets;
 pub mod teams;
 pub mod tokens;

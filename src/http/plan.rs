@@ -179,11 +179,13 @@ fn with_etag(mut res: Response, etag: &str) -> Response {
     res
 }
 
-/// The span, input version and ETag of a plan read.
+/// The span, input version and ETag of a plan read, and the right to
+/// compute it (others asking for the same plan wait for this one).
 struct PlanKey {
     span: (NaiveDate, NaiveDate),
     version: i64,
     etag: String,
+    flight: super::single_flight::Flight,
 }
 
 /// Resolves a plan read before computing anything: answers 304 when the
@@ -205,10 +207,16 @@ async fn prepare(
     if let Some(res) = super::precompressed::cached_response(&state.plan_cache, &etag, headers) {
         return Ok(Ok(with_etag(res, &etag)));
     }
+    // Computed by a request that came first? Then it is cached by now.
+    let flight = state.plan_flights.enter(&etag).await;
+    if let Some(res) = super::precompressed::cached_response(&state.plan_cache, &etag, headers) {
+        return Ok(Ok(with_etag(res, &etag)));
+    }
     Ok(Err(PlanKey {
         span,
         version,
         etag,
+        flight,
     }))
 }
 
@@ -352,6 +360,7 @@ async fn team_plan(
         span,
         version,
         etag,
+        flight: _flight,
     } = match prepare(&state, &headers, &team, &q, "plan").await? {
         Ok(res) => return Ok(res),
         Err(key) => key,
@@ -581,6 +590,7 @@ async fn team_summary(
         span,
         version,
         etag,
+        flight: _flight,
     } = match prepare(&state, &headers, &team, &q, "summary").await? {
         Ok(res) => return Ok(res),
         Err(key) => key,
@@ -881,7 +891,12 @@ async fn athlete_plan(
     let athlete = visible_athlete(&state, &caller, athlete_id).await?;
     let team = visible_team(&state, &caller, athlete.team_id).await?;
     let variant = format!("athlete-{athlete_id}");
-    let PlanKey { span, etag, .. } = match prepare(&state, &headers, &team, &q, &variant).await? {
+    let PlanKey {
+        span,
+        etag,
+        flight: _flight,
+        ..
+    } = match prepare(&state, &headers, &team, &q, &variant).await? {
         Ok(res) => return Ok(res),
         Err(key) => key,
     };

@@ -34,6 +34,12 @@ pub struct Tx {
 }
 
 impl Tx {
+    /// Commits a write that changes no token, team or audit row (a plan
+    /// snapshot): the read memo stays valid.
+    pub async fn commit_outside_memo(self) -> Result<(), sqlx::Error> {
+        self.inner.commit().await
+    }
+
     pub async fn commit(self) -> Result<(), sqlx::Error> {
         let result = self.inner.commit().await;
         // After the commit is visible (or failed): bumping either way is safe.
