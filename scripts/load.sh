@@ -15,6 +15,9 @@
 #     connections, 80 % summary reads and 20 % session writes;
 #  4. reports the service's peak memory (VmHWM) and prints one Markdown table.
 #
+# GLYCOWEEK_BIN=path measures another build of the service (e.g. of main)
+# with the same load generator, for a before/after comparison.
+#
 # Bounds (environment): ROUNDS (default 5) of ROUND_SECS (default 3) for the
 # ratio, CONCURRENCY for it (default 8), MIX_CONCURRENCY (default 32),
 # REQUESTS (default 20000) and DURATION_SECS (default 15) for the mix: about
@@ -40,7 +43,7 @@ echo "==> building (release)" >&2
 # must know --ceiling-endpoint, or it came from another build: link again.
 for attempt in 1 2 3; do
   cargo build --release --locked --bin glycoweek --example loadgen >&2
-  cp target/release/glycoweek "$work/glycoweek"
+  cp "${GLYCOWEEK_BIN:-target/release/glycoweek}" "$work/glycoweek"
   cp target/release/examples/loadgen "$work/loadgen"
   "$work/glycoweek" serve --help | grep -q -- '--ceiling-endpoint' && break
   [ "$attempt" -lt 3 ] || { echo "target/release/glycoweek keeps changing under us" >&2; exit 1; }

@@ -47,7 +47,7 @@ pub struct Config {
     pub ceiling_endpoint: bool,
     /// Memory for computed plans, MiB (plans are keyed by their inputs'
     /// version, so a cached plan is never stale); 0 turns the cache off.
-    #[arg(long = "plan-cache-mib", value_name = "MIB", env = "GLYCOWEEK_PLAN_CACHE_MIB", default_value_t = 128,
+    #[arg(long = "plan-cache-mib", value_name = "MIB", env = "GLYCOWEEK_PLAN_CACHE_MIB", default_value_t = 16,
           value_parser = clap::value_parser!(u64).range(0..=16384))]
     pub plan_cache_mib_raw: u64,
     #[arg(skip)]
@@ -55,7 +55,7 @@ pub struct Config {
     /// Memory for per-athlete week plans, MiB (keyed by the athlete's whole
     /// engine input, so a change recomputes only the athletes it reaches);
     /// 0 turns the memo off.
-    #[arg(long = "plan-memo-mib", value_name = "MIB", env = "GLYCOWEEK_PLAN_MEMO_MIB", default_value_t = 32,
+    #[arg(long = "plan-memo-mib", value_name = "MIB", env = "GLYCOWEEK_PLAN_MEMO_MIB", default_value_t = 16,
           value_parser = clap::value_parser!(u64).range(0..=16384))]
     pub plan_memo_mib_raw: u64,
     #[arg(skip)]
@@ -68,8 +68,8 @@ impl Config {
     /// Fills derived values after parsing.
     pub fn finish(mut self) -> Self {
         self.body_limit_bytes = usize::try_from(self.body_limit_bytes_raw).unwrap_or(1_048_576);
-        self.plan_cache_mib = usize::try_from(self.plan_cache_mib_raw).unwrap_or(128);
-        self.plan_memo_mib = usize::try_from(self.plan_memo_mib_raw).unwrap_or(32);
+        self.plan_cache_mib = usize::try_from(self.plan_cache_mib_raw).unwrap_or(16);
+        self.plan_memo_mib = usize::try_from(self.plan_memo_mib_raw).unwrap_or(16);
         self
     }
 

@@ -264,7 +264,9 @@ async fn compute(
         include_session_fuel: q.include_session_fuel.unwrap_or(false),
     };
     let memo = state.plan_memo.clone();
+    let core = state.plan_flights.core().await;
     let result = tokio::task::spawn_blocking(move || {
+        let _core = core;
         let athletes: Vec<Athlete> = data
             .athletes
             .iter()

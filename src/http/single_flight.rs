@@ -8,16 +8,39 @@ use std::sync::{Arc, Mutex, Weak};
 
 use tokio::sync::OwnedMutexGuard;
 
-/// In-flight plan computations by ETag.
-#[derive(Default)]
+/// In-flight plan computations by ETag, and the right to use the cores.
 pub struct Flights {
     inner: Mutex<HashMap<String, Weak<tokio::sync::Mutex<()>>>>,
+    /// Plans of different versions computed at once: no more than the
+    /// machine has cores (each already spreads its athletes over them), so
+    /// a burst of writes queues computations instead of piling up threads
+    /// and memory.
+    cores: Arc<tokio::sync::Semaphore>,
+}
+
+impl Default for Flights {
+    fn default() -> Self {
+        let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
+        Self {
+            inner: Mutex::default(),
+            cores: Arc::new(tokio::sync::Semaphore::new(cores)),
+        }
+    }
 }
 
 /// Held while a plan is computed and cached; others asking for it wait.
 pub type Flight = OwnedMutexGuard<()>;
 
 impl Flights {
+    /// Waits for a core to compute on.
+    pub async fn core(&self) -> tokio::sync::OwnedSemaphorePermit {
+        self.cores
+            .clone()
+            .acquire_owned()
+            .await
+            .expect("the semaphore is never closed")
+    }
+
     /// Waits until no other request computes `key`, then holds it.
     pub async fn enter(&self, key: &str) -> Flight {
         let lock = {
