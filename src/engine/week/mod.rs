@@ -25,7 +25,7 @@
 //!    deliver, and forecasting them from depleted stores would lower their
 //!    carbohydrate demand and so, perversely, today's target. Yesterday's
 //!    sessions are passed as they were simulated.
-//! 2. **Plan the day** with [`plan_day`] (settings, pins and health flags
+//! 2. **Plan the day** with [`crate::engine::day::plan::plan_day`] (settings, pins and health flags
 //!    passed through): targets and eating occasions.
 //! 3. **Simulate the day** in steps of at most 15 minutes, split at every
 //!    eating occasion and session boundary ([`crate::engine::glycogen::balance`]):
@@ -66,7 +66,7 @@ use uuid::Uuid;
 use crate::engine::day::energy_availability::EnergyAvailabilityBand;
 use crate::engine::day::notes::{Severity, WarningCode};
 use crate::engine::day::occasions::EatingOccasion;
-use crate::engine::day::plan::{DayInput, DayPlan, Explain, plan_day, plan_day_with};
+use crate::engine::day::plan::{DayInput, DayPlan, Explain, plan_day_with};
 use crate::engine::day::session_fuelling::{
     SPEEDY_REFUELLING_GAP_HOURS, SPEEDY_REFUELLING_MAX_HOURS,
 };
