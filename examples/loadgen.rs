@@ -5,23 +5,24 @@
 //!     --token gwk_... --team <TEAM_ID> --requests 4000 --concurrency 8 --duration-secs 20
 //! ```
 //!
-//! It runs three phases against one team, each bounded by `--requests` and
-//! `--duration-secs` (whichever comes first), after a short warm-up:
+//! It measures, against one team:
 //!
-//! 1. **mix**: 90 % plan reads (alternately `GET …/plan/summary` and
-//!    `GET …/plan`) and 10 % session writes (`PATCH /v1/sessions/{id}`
-//!    moving the start time or changing the notes of a few sessions it
-//!    created first in the planned week);
-//! 2. **squad plan**: `GET /v1/teams/{team}/plan` alone;
-//! 3. **ceiling**: `GET /v1/ceiling?bytes=N`, a pre-built response of the
-//!    squad plan's size behind the same authentication and middleware (the
-//!    service must run with `--ceiling-endpoint`): what the HTTP stack
-//!    allows on this machine.
+//! 1. **summary vs bare**: `GET …/plan/summary` (cached: no write runs) and
+//!    a bare axum 0.8 server serving the very same bytes (`--bare`, started
+//!    with `loadgen bare FILE`), in interleaved rounds of `--round-secs`
+//!    each; it reports the medians of the rounds' throughputs and their ratio;
+//! 2. **mix**: `--mix-concurrency` connections (default 32), 80 % summary
+//!    reads and 20 % session writes (`PATCH /v1/sessions/{id}` moving the
+//!    start time or changing the notes of a few sessions it created first in
+//!    the planned week), bounded by `--requests` and `--duration-secs`.
 //!
-//! For each it reports throughput, p50/p90/p99 latency, errors (transport
-//! failures and unexpected statuses) and 5xx, then the squad-plan
-//! throughput as a ratio of the ceiling's, as a Markdown table on stdout.
-//! The exit status is 1 when any request failed, so scripts can gate on it.
+//! It prints the issue-13 rows and a table of every phase (throughput,
+//! p50/p90/p99 latency, errors and 5xx) as Markdown on stdout. The exit
+//! status is 1 when any request failed, so scripts can gate on it.
+//!
+//! `loadgen bare FILE` serves FILE's bytes as `application/json` at every
+//! path of 127.0.0.1 on a free port (printed as `listening on http://…`):
+//! the ceiling of a plain axum server on this machine.
 
 use std::sync::Arc;
 use std::sync::atomic::{AtomicUsize, Ordering};
@@ -55,15 +56,26 @@ struct Args {
     /// Sessions created for the writes to change.
     #[arg(long, default_value_t = 4)]
     write_sessions: usize,
+    /// Base URL of the bare axum server (`loadgen bare FILE`).
+    #[arg(long)]
+    bare: String,
+    /// Interleaved rounds of summary and bare reads.
+    #[arg(long, default_value_t = 5)]
+    rounds: usize,
+    /// Seconds of each round.
+    #[arg(long, default_value_t = 3)]
+    round_secs: u64,
+    /// Connections of the mixed load.
+    #[arg(long, default_value_t = 32)]
+    mix_concurrency: usize,
 }
 
 /// What one request does.
 #[derive(Clone, Copy, PartialEq, Eq, Debug)]
 enum Kind {
     Summary,
-    Plan,
     Write,
-    Ceiling,
+    Bare,
 }
 
 /// The outcome of one request.
@@ -139,7 +151,7 @@ struct Target {
     /// (minutes after midnight) it may move within without overlapping
     /// another session of its day.
     sessions: Vec<(String, u32, u32)>,
-    ceiling_bytes: usize,
+    bare: String,
 }
 
 impl Target {
@@ -152,16 +164,12 @@ impl Target {
                 format!("{}/v1/teams/{}/plan/summary", self.base, self.team),
                 None,
             ),
-            Kind::Plan => (
-                Method::GET,
-                format!("{}/v1/teams/{}/plan", self.base, self.team),
-                None,
-            ),
+
             Kind::Write => {
-                let (id, earliest, latest) = &self.sessions[(n / 10) % self.sessions.len()];
+                let (id, earliest, latest) = &self.sessions[(n / 5) % self.sessions.len()];
                 // Alternately move the session inside its free slot and
                 // rewrite its notes.
-                let patch = if (n / 10).is_multiple_of(2) {
+                let patch = if (n / 5).is_multiple_of(2) {
                     let start = earliest + (n as u32 * 5) % (latest - earliest + 1);
                     json!({"start_time": format!("{:02}:{:02}", start / 60, start % 60)})
                 } else {
@@ -173,11 +181,7 @@ impl Target {
                     Some(patch),
                 )
             }
-            Kind::Ceiling => (
-                Method::GET,
-                format!("{}/v1/ceiling?bytes={}", self.base, self.ceiling_bytes),
-                None,
-            ),
+            Kind::Bare => (Method::GET, format!("{}/plan/summary", self.bare), None),
         };
         let mut request = self.client.request(method, url).bearer_auth(&self.token);
         if let Some(patch) = body {
@@ -227,7 +231,7 @@ async fn phase(
             }
         }));
     }
-    let mut samples = Vec::with_capacity(requests);
+    let mut samples = Vec::with_capacity(requests.min(1 << 16));
     for worker in workers {
         samples.extend(worker.await.expect("worker"));
     }
@@ -239,11 +243,12 @@ fn of<'a>(samples: &'a [Sample], kinds: &[Kind]) -> Vec<&'a Sample> {
     samples.iter().filter(|s| kinds.contains(&s.kind)).collect()
 }
 
+/// 80 % reads, 20 % writes.
 fn mix(n: usize) -> Kind {
-    match n % 10 {
-        9 => Kind::Write,
-        k if k % 2 == 0 => Kind::Summary,
-        _ => Kind::Plan,
+    if n % 5 == 4 {
+        Kind::Write
+    } else {
+        Kind::Summary
     }
 }
 
@@ -320,38 +325,41 @@ async fn free_slots(
     Ok(slots)
 }
 
-/// Whether every athlete of a squad plan got a plan.
-fn all_planned(plan: &Value) -> bool {
-    plan["athletes"]
-        .as_array()
-        .is_some_and(|a| a.iter().all(|athlete| !athlete["plan"].is_null()))
+/// Whether every athlete of a squad summary got a plan.
+fn all_planned(summary: &Value) -> bool {
+    summary["unplanned"].as_array().is_some_and(Vec::is_empty)
+        && summary["rows"]
+            .as_array()
+            .is_some_and(|rows| !rows.is_empty())
 }
 
-async fn fetch_plan(args: &Args, client: &Client) -> Result<(Value, usize), String> {
+async fn fetch_summary(args: &Args, client: &Client) -> Result<(Value, usize), String> {
     let res = client
-        .get(format!("{}/v1/teams/{}/plan", args.base, args.team))
+        .get(format!("{}/v1/teams/{}/plan/summary", args.base, args.team))
         .bearer_auth(&args.token)
         .send()
         .await
-        .map_err(|e| format!("GET plan: {e}"))?;
+        .map_err(|e| format!("GET summary: {e}"))?;
     if res.status() != 200 {
-        return Err(format!("GET plan answered {}", res.status()));
+        return Err(format!("GET summary answered {}", res.status()));
     }
     let bytes = res.bytes().await.map_err(|e| e.to_string())?;
-    let plan: Value = serde_json::from_slice(&bytes).map_err(|e| e.to_string())?;
-    Ok((plan, bytes.len()))
+    let summary: Value = serde_json::from_slice(&bytes).map_err(|e| e.to_string())?;
+    Ok((summary, bytes.len()))
 }
 
-type Setup = (Vec<(String, u32, u32)>, usize, String);
+type Setup = (Vec<(String, u32, u32)>, String, usize);
 
 async fn setup(args: &Args, client: &Client) -> Result<Setup, String> {
-    let (plan, plan_bytes) = fetch_plan(args, client).await?;
-    if !all_planned(&plan) {
+    let (summary, summary_bytes) = fetch_summary(args, client).await?;
+    if !all_planned(&summary) {
         return Err("some athletes have no plan before the run; fix the data first".into());
     }
-    let from = plan["from"].as_str().ok_or("the plan has no from date")?;
-    let to = plan["to"].as_str().ok_or("the plan has no to date")?;
-    let athletes = plan["athletes"].as_array().map_or(0, Vec::len);
+    let from = summary["from"]
+        .as_str()
+        .ok_or("the summary has no from date")?;
+    let to = summary["to"].as_str().ok_or("the summary has no to date")?;
+    let rows = summary["rows"].as_array().map_or(0, Vec::len);
     let slots = free_slots(args, client, from, to).await?;
     if slots.is_empty() {
         return Err("no free slot in the planned week for the write sessions".into());
@@ -384,25 +392,84 @@ async fn setup(args: &Args, client: &Client) -> Result<Setup, String> {
         sessions.push((id, earliest, latest));
     }
     let note = format!(
-        "squad plan: {athletes} athletes, {from} to {to}, {plan_bytes} bytes; {} write sessions",
+        "squad summary: {rows} athlete-days, {from} to {to}, {summary_bytes} bytes; {} write sessions",
         sessions.len()
     );
-    Ok((sessions, plan_bytes, note))
+    Ok((sessions, note, summary_bytes))
+}
+
+fn median(mut values: Vec<f64>) -> f64 {
+    values.sort_by(f64::total_cmp);
+    match values.len() {
+        0 => f64::NAN,
+        n if n % 2 == 1 => values[n / 2],
+        n => (values[n / 2 - 1] + values[n / 2]) / 2.0,
+    }
+}
+
+/// `loadgen bare FILE`: a bare axum server answering every GET with FILE.
+async fn serve_bare(file: &str) -> std::process::ExitCode {
+    let body = match std::fs::read(file) {
+        Ok(bytes) => axum::body::Bytes::from(bytes),
+        Err(e) => {
+            eprintln!("loadgen bare: cannot read {file}: {e}");
+            return std::process::ExitCode::FAILURE;
+        }
+    };
+    let app = axum::Router::new().fallback(move || {
+        let body = body.clone();
+        async move {
+            (
+                [(axum::http::header::CONTENT_TYPE, "application/json")],
+                body,
+            )
+        }
+    });
+    let listener = match tokio::net::TcpListener::bind("127.0.0.1:0").await {
+        Ok(l) => l,
+        Err(e) => {
+            eprintln!("loadgen bare: {e}");
+            return std::process::ExitCode::FAILURE;
+        }
+    };
+    let addr = listener.local_addr().expect("address");
+    eprintln!("listening on http://{addr}");
+    match axum::serve(listener, app).await {
+        Ok(()) => std::process::ExitCode::SUCCESS,
+        Err(e) => {
+            eprintln!("loadgen bare: {e}");
+            std::process::ExitCode::FAILURE
+        }
+    }
 }
 
 #[tokio::main]
 async fn main() -> std::process::ExitCode {
+    let argv: Vec<String> = std::env::args().collect();
+    if argv.get(1).map(String::as_str) == Some("bare") {
+        let Some(file) = argv.get(2) else {
+            eprintln!("usage: loadgen bare FILE");
+            return std::process::ExitCode::FAILURE;
+        };
+        return serve_bare(file).await;
+    }
     let args = Args::parse();
-    if args.requests == 0 || args.concurrency == 0 || args.duration_secs == 0 {
-        eprintln!("loadgen: requests, concurrency and duration must be positive");
+    if args.requests == 0
+        || args.concurrency == 0
+        || args.duration_secs == 0
+        || args.rounds == 0
+        || args.round_secs == 0
+        || args.mix_concurrency == 0
+    {
+        eprintln!("loadgen: requests, concurrency, rounds and durations must be positive");
         return std::process::ExitCode::FAILURE;
     }
     let client = Client::builder()
         .timeout(Duration::from_secs(30))
-        .pool_max_idle_per_host(args.concurrency)
+        .pool_max_idle_per_host(args.concurrency.max(args.mix_concurrency))
         .build()
         .expect("client");
-    let (sessions, plan_bytes, note) = match setup(&args, &client).await {
+    let (sessions, note, summary_bytes) = match setup(&args, &client).await {
         Ok(s) => s,
         Err(e) => {
             eprintln!("loadgen: setup failed: {e}");
@@ -416,18 +483,56 @@ async fn main() -> std::process::ExitCode {
         token: args.token.clone(),
         team: args.team.clone(),
         sessions,
-        ceiling_bytes: plan_bytes,
+        bare: args.bare.trim_end_matches('/').to_owned(),
     });
-    let limit = Duration::from_secs(args.duration_secs);
     let warm_up = 2 * args.concurrency;
 
-    eprintln!("loadgen: mix (90 % plan reads, 10 % session writes)");
-    phase(&target, warm_up, args.concurrency, limit, mix).await;
-    let (mixed, mixed_wall) = phase(&target, args.requests, args.concurrency, limit, mix).await;
+    // 1. The cached summary against the bare server, interleaved.
+    eprintln!(
+        "loadgen: summary vs bare axum, {} rounds of {} s each, concurrency {}",
+        args.rounds, args.round_secs, args.concurrency
+    );
+    let round = Duration::from_secs(args.round_secs);
+    phase(&target, warm_up, args.concurrency, round, |_| Kind::Summary).await;
+    phase(&target, warm_up, args.concurrency, round, |_| Kind::Bare).await;
+    let (mut summary_rates, mut bare_rates) = (Vec::new(), Vec::new());
+    let (mut summary_all, mut bare_all) = (Vec::new(), Vec::new());
+    let (mut summary_wall, mut bare_wall) = (Duration::ZERO, Duration::ZERO);
+    for _ in 0..args.rounds {
+        let (samples, wall) = phase(&target, usize::MAX, args.concurrency, round, |_| {
+            Kind::Summary
+        })
+        .await;
+        summary_rates.push(samples.len() as f64 / wall.as_secs_f64());
+        summary_wall += wall;
+        summary_all.extend(samples);
+        let (samples, wall) =
+            phase(&target, usize::MAX, args.concurrency, round, |_| Kind::Bare).await;
+        bare_rates.push(samples.len() as f64 / wall.as_secs_f64());
+        bare_wall += wall;
+        bare_all.extend(samples);
+    }
+    let (summary_rate, bare_rate) = (median(summary_rates), median(bare_rates));
+
+    // 2. The mixed load.
+    eprintln!(
+        "loadgen: mix (80 % summary reads, 20 % session writes), {} connections",
+        args.mix_concurrency
+    );
+    let limit = Duration::from_secs(args.duration_secs);
+    phase(
+        &target,
+        2 * args.mix_concurrency,
+        args.mix_concurrency,
+        limit,
+        mix,
+    )
+    .await;
+    let (mixed, mixed_wall) = phase(&target, args.requests, args.mix_concurrency, limit, mix).await;
     // The writes must not have broken the plan (a refused plan is small and
-    // fast, and would flatter every figure after this point).
-    match fetch_plan(&args, &target.client).await {
-        Ok((plan, _)) if all_planned(&plan) => {}
+    // fast, and would flatter every figure).
+    match fetch_summary(&args, &target.client).await {
+        Ok((summary, _)) if all_planned(&summary) => {}
         Ok(_) => {
             eprintln!("loadgen: after the writes, some athletes have no plan");
             return std::process::ExitCode::FAILURE;
@@ -437,25 +542,13 @@ async fn main() -> std::process::ExitCode {
             return std::process::ExitCode::FAILURE;
         }
     }
-    eprintln!("loadgen: squad plan alone");
-    phase(&target, warm_up, args.concurrency, limit, |_| Kind::Plan).await;
-    let (plans, plans_wall) = phase(&target, args.requests, args.concurrency, limit, |_| {
-        Kind::Plan
-    })
-    .await;
-    eprintln!("loadgen: ceiling ({plan_bytes} bytes)");
-    phase(&target, warm_up, args.concurrency, limit, |_| Kind::Ceiling).await;
-    let (ceiling, ceiling_wall) = phase(&target, args.requests, args.concurrency, limit, |_| {
-        Kind::Ceiling
-    })
-    .await;
 
-    let all = of(&mixed, &[Kind::Summary, Kind::Plan, Kind::Write]);
+    let all = of(&mixed, &[Kind::Summary, Kind::Write]);
     let figures = [
         Figures::of("mix: all", &all, mixed_wall, 200),
         Figures::of(
-            "mix: plan reads",
-            &of(&mixed, &[Kind::Summary, Kind::Plan]),
+            "mix: summary reads",
+            &of(&mixed, &[Kind::Summary]),
             mixed_wall,
             200,
         ),
@@ -466,23 +559,34 @@ async fn main() -> std::process::ExitCode {
             200,
         ),
         Figures::of(
-            "squad plan alone",
-            &of(&plans, &[Kind::Plan]),
-            plans_wall,
+            "cached summary (all rounds)",
+            &of(&summary_all, &[Kind::Summary]),
+            summary_wall,
             200,
         ),
         Figures::of(
-            "ceiling (same size)",
-            &of(&ceiling, &[Kind::Ceiling]),
-            ceiling_wall,
+            "bare axum, same bytes (all rounds)",
+            &of(&bare_all, &[Kind::Bare]),
+            bare_wall,
             200,
         ),
     ];
-    let ratio = figures[3].throughput / figures[4].throughput;
-
+    let kb = format!("{:.0} KB", summary_bytes as f64 / 1000.0);
+    println!("{note}");
+    println!();
     println!(
-        "{note}; concurrency {}; at most {} requests or {} s per phase",
-        args.concurrency, args.requests, args.duration_secs
+        "| cached `/plan/summary` req/s vs bare axum, same {kb} (medians of {} interleaved rounds of {} s, concurrency {}) | {:.0} vs {:.0} ({:.2}) |",
+        args.rounds,
+        args.round_secs,
+        args.concurrency,
+        summary_rate,
+        bare_rate,
+        summary_rate / bare_rate
+    );
+    let m = &figures[0];
+    println!(
+        "| mixed load, {} connections, 80% reads / 20% writes | {:.0} req/s, p50 {:.1} ms, p99 {:.1} ms |",
+        args.mix_concurrency, m.throughput, m.p50_ms, m.p99_ms
     );
     println!();
     println!("| phase | requests | req/s | p50 ms | p90 ms | p99 ms | errors | 5xx |");
@@ -490,15 +594,7 @@ async fn main() -> std::process::ExitCode {
     for f in &figures {
         println!("{}", f.row());
     }
-    println!();
-    println!(
-        "Squad-plan throughput / ceiling throughput: {ratio:.3} ({:.0} / {:.0} req/s)",
-        figures[3].throughput, figures[4].throughput
-    );
-    let failed: usize = [&figures[0], &figures[3], &figures[4]]
-        .iter()
-        .map(|f| f.errors)
-        .sum();
+    let failed = figures[0].errors + figures[3].errors + figures[4].errors;
     if failed > 0 {
         eprintln!("loadgen: {failed} requests failed");
         return std::process::ExitCode::FAILURE;

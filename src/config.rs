@@ -51,7 +51,7 @@ pub struct Config {
     pub ceiling_endpoint: bool,
     /// Memory for computed plans, MiB (plans are keyed by their inputs'
     /// version, so a cached plan is never stale); 0 turns the cache off.
-    #[arg(long = "plan-cache-mib", value_name = "MIB", env = "GLYCOWEEK_PLAN_CACHE_MIB", default_value_t = 128,
+    #[arg(long = "plan-cache-mib", value_name = "MIB", env = "GLYCOWEEK_PLAN_CACHE_MIB", default_value_t = 16,
           value_parser = clap::value_parser!(u64).range(0..=16384))]
     pub plan_cache_mib_raw: u64,
     /// How long a squad-board sign-in lasts, hours (1 to 168).
@@ -65,6 +65,14 @@ pub struct Config {
     pub board_secure_cookie: bool,
     #[arg(skip)]
     pub plan_cache_mib: usize,
+    /// Memory for per-athlete week plans, MiB (keyed by the athlete's whole
+    /// engine input, so a change recomputes only the athletes it reaches);
+    /// 0 turns the memo off.
+    #[arg(long = "plan-memo-mib", value_name = "MIB", env = "GLYCOWEEK_PLAN_MEMO_MIB", default_value_t = 16,
+          value_parser = clap::value_parser!(u64).range(0..=16384))]
+    pub plan_memo_mib_raw: u64,
+    #[arg(skip)]
+    pub plan_memo_mib: usize,
     #[arg(skip)]
     pub body_limit_bytes: usize,
 }
@@ -73,7 +81,8 @@ impl Config {
     /// Fills derived values after parsing.
     pub fn finish(mut self) -> Self {
         self.body_limit_bytes = usize::try_from(self.body_limit_bytes_raw).unwrap_or(1_048_576);
-        self.plan_cache_mib = usize::try_from(self.plan_cache_mib_raw).unwrap_or(128);
+        self.plan_cache_mib = usize::try_from(self.plan_cache_mib_raw).unwrap_or(16);
+        self.plan_memo_mib = usize::try_from(self.plan_memo_mib_raw).unwrap_or(16);
         self
     }
 
@@ -92,6 +101,8 @@ impl Config {
             plan_cache_mib: 64,
             board_session_hours: 12,
             board_secure_cookie: false,
+            plan_memo_mib_raw: 32,
+            plan_memo_mib: 32,
             body_limit_bytes: 1_048_576,
         }
     }

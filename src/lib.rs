@@ -20,6 +20,7 @@ pub mod domain;
 pub mod engine;
 pub mod error;
 pub mod http;
+pub mod plan_memo;
 pub mod planner;
 pub mod store;
 
@@ -50,15 +51,22 @@ pub struct AppState {
     pub db: Db,
     pub config: Arc<Config>,
     pub plan_cache: Arc<http::plan_cache::PlanCache>,
+    /// Week plans per athlete, keyed by the athlete's engine input.
+    pub plan_memo: Arc<plan_memo::PlanMemo>,
+    /// Plan computations in flight, one per ETag.
+    pub plan_flights: Arc<http::single_flight::Flights>,
 }
 
 impl AppState {
     pub fn new(db: Db, config: Config) -> Self {
         let cache_bytes = config.plan_cache_mib.saturating_mul(1024 * 1024);
+        let memo_bytes = config.plan_memo_mib.saturating_mul(1024 * 1024);
         Self {
             db,
             config: Arc::new(config),
             plan_cache: Arc::new(http::plan_cache::PlanCache::new(cache_bytes)),
+            plan_memo: Arc::new(plan_memo::PlanMemo::new(memo_bytes)),
+            plan_flights: Default::default(),
         }
     }
 }

@@ -55,7 +55,8 @@ enum Command {
         /// Plan lengths in weeks.
         #[arg(long, value_delimiter = ',', default_value = "1,4,12")]
         weeks: Vec<u64>,
-        #[arg(long, default_value_t = 3)]
+        /// Interleaved rounds; the figures are medians.
+        #[arg(long, default_value_t = 5)]
         repeats: usize,
     },
     /// Write a consistent copy of a live database.
@@ -119,8 +120,7 @@ async fn main() -> ExitCode {
                     ExitCode::FAILURE
                 };
             }
-            glycoweek::bench::run(&athletes, &weeks, repeats);
-            Ok(())
+            glycoweek::bench::run(&athletes, &weeks, repeats).await
         }
     };
     match result {

@@ -296,10 +296,26 @@ pub fn plan_athletes(
     athletes: &[Athlete],
     options: &PlanOptions,
 ) -> Vec<AthleteWeek> {
+    plan_athletes_with(data, pins, athletes, options, None)
+}
+
+/// [`plan_athletes`] reusing the plans of athletes whose engine input did
+/// not change since `memo` planned them.
+pub fn plan_athletes_with(
+    data: &TeamData,
+    pins: &HashMap<(Uuid, NaiveDate), crate::engine::day::settings::DayPins>,
+    athletes: &[Athlete],
+    options: &PlanOptions,
+    memo: Option<&crate::plan_memo::PlanMemo>,
+) -> Vec<AthleteWeek> {
     let plan_one = |athlete: &Athlete| AthleteWeek {
         athlete: athlete.clone(),
         plan: week_input(data, pins, athlete, options).and_then(|input| {
-            plan_week(&input).map_err(|e| {
+            match memo {
+                Some(memo) => memo.plan(&input),
+                None => plan_week(&input),
+            }
+            .map_err(|e| {
                 e.issues
                     .into_iter()
                     .map(|i| format!("{}: {}", i.field, i.reason))

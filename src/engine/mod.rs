@@ -80,6 +80,21 @@ impl Issues {
         }
     }
 
+    /// [`Issues::range`] with the field's path built only when the value is
+    /// out of range: validation on the planner's hot path allocates nothing.
+    pub fn range_with(
+        &mut self,
+        field: impl FnOnce() -> String,
+        value: f64,
+        min: f64,
+        max: f64,
+        unit: &str,
+    ) {
+        if !value.is_finite() || value < min || value > max {
+            self.push(field(), format!("must be between {min} and {max} {unit}"));
+        }
+    }
+
     pub fn finish(self) -> Result<(), InvalidInput> {
         if self.0.is_empty() {
             Ok(())

@@ -14,6 +14,7 @@ pub mod output;
 pub mod plan;
 pub mod plan_cache;
 pub mod sessions;
+pub mod single_flight;
 pub mod targets;
 pub mod teams;
 pub mod tokens;

@@ -182,11 +182,13 @@ fn with_etag(mut res: Response, etag: &str) -> Response {
     res
 }
 
-/// The span, input version and ETag of a plan read.
+/// The span, input version and ETag of a plan read, and the right to
+/// compute it (others asking for the same plan wait for this one).
 struct PlanKey {
     span: (NaiveDate, NaiveDate),
     version: i64,
     etag: String,
+    flight: super::single_flight::Flight,
 }
 
 /// Resolves a plan read before computing anything: answers 304 when the
@@ -200,7 +202,7 @@ async fn prepare(
     variant: &str,
 ) -> Result<std::result::Result<Response, PlanKey>> {
     let span = span_of(q, team)?;
-    let version = audit::team_version(&state.db.read, team.id).await?;
+    let version = audit::team_version_memo(&state.db, team.id).await?;
     let etag = plan_etag(version, span, &q.variant(variant));
     if let Some(res) = not_modified(headers, &etag)? {
         return Ok(Ok(res));
@@ -208,10 +210,16 @@ async fn prepare(
     if let Some(res) = cached(state, headers, &etag) {
         return Ok(Ok(res));
     }
+    // Computed by a request that came first? Then it is cached by now.
+    let flight = state.plan_flights.enter(&etag).await;
+    if let Some(res) = cached(state, headers, &etag) {
+        return Ok(Ok(res));
+    }
     Ok(Err(PlanKey {
         span,
         version,
         etag,
+        flight,
     }))
 }
 
@@ -307,14 +315,17 @@ async fn compute(
         start_glycogen_fraction: q.start_glycogen_fraction,
         include_session_fuel: q.include_session_fuel.unwrap_or(false),
     };
+    let memo = state.plan_memo.clone();
+    let core = state.plan_flights.core().await;
     let result = tokio::task::spawn_blocking(move || {
+        let _core = core;
         let athletes: Vec<Athlete> = data
             .athletes
             .iter()
             .filter(|a| only.is_none_or(|id| a.id == id))
             .cloned()
             .collect();
-        let weeks = planner::plan_athletes(&data, &pins, &athletes, &options);
+        let weeks = planner::plan_athletes_with(&data, &pins, &athletes, &options, Some(&memo));
         (data, weeks)
     })
     .await
@@ -408,6 +419,7 @@ async fn team_plan(
         span,
         version,
         etag,
+        flight: _flight,
     } = match prepare(&state, &headers, &team, &q, "plan").await? {
         Ok(res) => return Ok(res),
         Err(key) => key,
@@ -686,6 +698,7 @@ async fn team_summary(
         span,
         version,
         etag,
+        flight: _flight,
     } = match prepare(&state, &headers, &team, &q, "summary").await? {
         Ok(res) => return Ok(res),
         Err(key) => key,
@@ -1165,7 +1178,12 @@ async fn athlete_plan(
     let athlete = visible_athlete(&state, &caller, athlete_id).await?;
     let team = visible_team(&state, &caller, athlete.team_id).await?;
     let variant = format!("athlete-{athlete_id}");
-    let PlanKey { span, etag, .. } = match prepare(&state, &headers, &team, &q, &variant).await? {
+    let PlanKey {
+        span,
+        etag,
+        flight: _flight,
+        ..
+    } = match prepare(&state, &headers, &team, &q, &variant).await? {
         Ok(res) => return Ok(res),
         Err(key) => key,
     };

@@ -145,6 +145,17 @@ pub async fn list(
 /// Creating a token or a calendar-feed link must not throw away every
 /// client's cached plan.
 pub const NOT_PLAN_INPUTS: [&str; 2] = ["token", "calendar_feed"];
+/// [`team_version`] through the read memo: no database round trip while
+/// nothing was written since it was last read.
+pub async fn team_version_memo(db: &super::Db, team: Uuid) -> Result<i64, sqlx::Error> {
+    if let Some(version) = db.memo.version(team) {
+        return Ok(version);
+    }
+    let ticket = db.memo.ticket();
+    let version = team_version(&db.read, team).await?;
+    db.memo.put_version(ticket, team, version);
+    Ok(version)
+}
 
 /// The team's input version: the sequence number of its latest recorded
 /// change to an input of its plan. Every write that can change a plan

@@ -9,6 +9,7 @@
 pub mod athletes;
 pub mod audit;
 pub mod board_sessions;
+pub mod memo;
 pub mod planning;
 pub mod plans;
 pub mod sessions;
@@ -20,12 +21,46 @@ use std::str::FromStr;
 use std::time::Duration;
 
 use chrono::{DateTime, SecondsFormat, Utc};
+use sqlx::sqlite::SqliteConnection;
 use sqlx::sqlite::{
     SqliteConnectOptions, SqliteJournalMode, SqlitePool, SqlitePoolOptions, SqliteSynchronous,
 };
 use sqlx::{Sqlite, Transaction};
 
-pub type Tx = Transaction<'static, Sqlite>;
+/// A write transaction on the writer connection. Committing it tells the
+/// read memo ([`memo`]) that data changed.
+pub struct Tx {
+    inner: Transaction<'static, Sqlite>,
+    memo: std::sync::Arc<memo::ReadMemo>,
+}
+
+impl Tx {
+    /// Commits a write that changes no token, team or audit row (a plan
+    /// snapshot): the read memo stays valid.
+    pub async fn commit_outside_memo(self) -> Result<(), sqlx::Error> {
+        self.inner.commit().await
+    }
+
+    pub async fn commit(self) -> Result<(), sqlx::Error> {
+        let result = self.inner.commit().await;
+        // After the commit is visible (or failed): bumping either way is safe.
+        self.memo.wrote();
+        result
+    }
+}
+
+impl std::ops::Deref for Tx {
+    type Target = SqliteConnection;
+    fn deref(&self) -> &SqliteConnection {
+        &self.inner
+    }
+}
+
+impl std::ops::DerefMut for Tx {
+    fn deref_mut(&mut self) -> &mut SqliteConnection {
+        &mut self.inner
+    }
+}
 
 static MIGRATOR: sqlx::migrate::Migrator = sqlx::migrate!();
 
@@ -52,6 +87,8 @@ pub enum OpenError {
 pub struct Db {
     pub read: SqlitePool,
     pub write: SqlitePool,
+    /// Tokens, teams and input versions read recently (see [`memo`]).
+    pub memo: std::sync::Arc<memo::ReadMemo>,
 }
 
 impl Db {
@@ -89,12 +126,19 @@ impl Db {
             .connect_with(options.read_only(true))
             .await
             .map_err(open_err)?;
-        Ok(Self { read, write })
+        Ok(Self {
+            read,
+            write,
+            memo: Default::default(),
+        })
     }
 
     /// Starts a write transaction holding the database write lock.
     pub async fn begin_write(&self) -> Result<Tx, sqlx::Error> {
-        self.write.begin_with("BEGIN IMMEDIATE").await
+        Ok(Tx {
+            inner: self.write.begin_with("BEGIN IMMEDIATE").await?,
+            memo: self.memo.clone(),
+        })
     }
 
     /// Writes a consistent copy of the live database to `to` (`VACUUM INTO`).

@@ -43,7 +43,8 @@ pub async fn save_snapshot(
     )
     .execute(&mut *tx)
     .await?;
-    tx.commit().await
+    // Snapshots are no input of any plan: the memo of versions stays valid.
+    tx.commit_outside_memo().await
 }
 
 /// The snapshot of a version and span, as stored JSON.

@@ -85,8 +85,14 @@ async fn fetch_in(
 
 #[instrument(skip_all)]
 pub async fn get(db: &Db, id: Uuid) -> Result<Option<Team>, sqlx::Error> {
+    if let Some(team) = db.memo.team(id) {
+        return Ok(team);
+    }
+    let ticket = db.memo.ticket();
     let mut conn = db.read.acquire().await?;
-    fetch_in(&mut conn, id).await
+    let team = fetch_in(&mut conn, id).await?;
+    db.memo.put_team(ticket, id, team.clone());
+    Ok(team)
 }
 
 /// Teams ordered by id (creation order), after `after`; `only` limits to one team.

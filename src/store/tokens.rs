@@ -117,7 +117,11 @@ pub async fn get(db: &Db, id: Uuid) -> Result<Option<TokenInfo>, sqlx::Error> {
 #[instrument(skip_all)]
 pub async fn authenticate(db: &Db, secret: &str) -> Result<Option<TokenInfo>, sqlx::Error> {
     let hash = hash_secret(secret);
-    sqlx::query_as!(
+    if let Some(info) = db.memo.token(&hash) {
+        return Ok(info);
+    }
+    let ticket = db.memo.ticket();
+    let info = sqlx::query_as!(
         TokenRow,
         "SELECT id, label, role, team_id, created_at, revoked_at FROM api_tokens
          WHERE token_hash = ? AND revoked_at IS NULL",
@@ -126,7 +130,9 @@ pub async fn authenticate(db: &Db, secret: &str) -> Result<Option<TokenInfo>, sq
     .fetch_optional(&db.read)
     .await?
     .map(TokenRow::into_info)
-    .transpose()
+    .transpose()?;
+    db.memo.put_token(ticket, hash, info.clone());
+    Ok(info)
 }
 
 #[instrument(skip_all)]

@@ -16,6 +16,7 @@ mod participation;
 mod plans;
 mod privacy;
 mod security;
+mod serving;
 mod sessions;
 mod teams;
 mod versions;

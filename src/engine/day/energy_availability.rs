@@ -58,22 +58,22 @@ impl Default for EnergyAvailabilityThresholds {
 
 impl EnergyAvailabilityThresholds {
     pub(crate) fn validate(&self, field: &str, issues: &mut Issues) {
-        issues.range(
-            format!("{field}.adequate_at_or_above"),
+        issues.range_with(
+            || format!("{field}.adequate_at_or_above"),
             self.adequate_at_or_above,
             20.0,
             70.0,
             "kcal/kg FFM/day",
         );
-        issues.range(
-            format!("{field}.male_adequate_at_or_above"),
+        issues.range_with(
+            || format!("{field}.male_adequate_at_or_above"),
             self.male_adequate_at_or_above,
             20.0,
             70.0,
             "kcal/kg FFM/day",
         );
-        issues.range(
-            format!("{field}.low_below"),
+        issues.range_with(
+            || format!("{field}.low_below"),
             self.low_below,
             10.0,
             60.0,

@@ -154,6 +154,21 @@ fn round_to(value: f64, step: f64) -> f64 {
 
 /// Plans one athlete's day. Pure and deterministic.
 pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
+    plan_day_with(input, Explain::Yes)
+}
+
+/// Whether a day plan carries its explanations.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum Explain {
+    Yes,
+    /// No explanation texts (the only part nothing else reads): for days the
+    /// week planner simulates only to carry glycogen into the span.
+    No,
+}
+
+/// [`plan_day`], leaving out the explanations when they will not be shown.
+/// Every number is the same either way.
+pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPlan, InvalidInput> {
     validate(input)?;
     let profile = &input.profile;
     let settings = &input.settings;
@@ -484,25 +499,29 @@ pub fn plan_day(input: &DayInput) -> Result<DayPlan, InvalidInput> {
     loading_warnings(input, &mut warnings);
     safety_notes(input, goal, &mut warnings, &mut cautions);
 
-    let explanations: Vec<Explanation> = explanations(&ExplainInput {
-        input,
-        load: &load,
-        decision: &decision,
-        budget: &budget,
-        fit: &fit,
-        ffm: &ffm,
-        carbohydrate_g,
-        protein_g,
-        protein_g_per_kg,
-        computed_protein,
-        fat_g,
-        fat_share,
-        energy_kcal,
-        ea_value,
-        ea_band,
-        session_plans: &session_plans,
-        occasion_count: occasions.len(),
-    });
+    let explanations: Vec<Explanation> = if explain == Explain::No {
+        Vec::new()
+    } else {
+        explanations(&ExplainInput {
+            input,
+            load: &load,
+            decision: &decision,
+            budget: &budget,
+            fit: &fit,
+            ffm: &ffm,
+            carbohydrate_g,
+            protein_g,
+            protein_g_per_kg,
+            computed_protein,
+            fat_g,
+            fat_share,
+            energy_kcal,
+            ea_value,
+            ea_band,
+            session_plans: &session_plans,
+            occasion_count: occasions.len(),
+        })
+    };
 
     Ok(DayPlan {
         date: input.date,

@@ -167,59 +167,70 @@ pub(crate) fn validate_sessions(
     issues: &mut Issues,
 ) {
     for (i, session) in sessions.iter().enumerate() {
-        let at = format!("{field}[{i}]");
         if session.title.trim().is_empty() || session.title.len() > 200 {
-            issues.push(format!("{at}.title"), "must be 1 to 200 characters");
+            issues.push(format!("{field}[{i}].title"), "must be 1 to 200 characters");
         }
-        issues.range(
-            format!("{at}.minutes"),
+        issues.range_with(
+            || format!("{field}[{i}].minutes"),
             session.minutes,
             0.0,
             600.0,
             "minutes",
         );
         if session.minutes == 0.0 {
-            issues.push(format!("{at}.minutes"), "must be over 0 minutes");
+            issues.push(format!("{field}[{i}].minutes"), "must be over 0 minutes");
         }
         if let Some(clock) = session.clock_minutes {
-            issues.range(format!("{at}.clock_minutes"), clock, 0.0, 720.0, "minutes");
+            issues.range_with(
+                || format!("{field}[{i}].clock_minutes"),
+                clock,
+                0.0,
+                720.0,
+                "minutes",
+            );
             if clock < session.minutes {
-                issues.push(format!("{at}.clock_minutes"), "must not be below minutes");
+                issues.push(
+                    format!("{field}[{i}].clock_minutes"),
+                    "must not be below minutes",
+                );
             }
         }
-        issues.range(
-            format!("{at}.mean_fraction_vo2max"),
+        issues.range_with(
+            || format!("{field}[{i}].mean_fraction_vo2max"),
             session.mean_fraction_vo2max,
             0.1,
             1.2,
             "(fraction of VO2max)",
         );
-        issues.range(
-            format!("{at}.gross_kcal"),
+        issues.range_with(
+            || format!("{field}[{i}].gross_kcal"),
             session.gross_kcal,
             0.0,
             10_000.0,
             "kcal",
         );
-        issues.range(
-            format!("{at}.net_kcal"),
+        issues.range_with(
+            || format!("{field}[{i}].net_kcal"),
             session.net_kcal,
             0.0,
             10_000.0,
             "kcal",
         );
         if session.net_kcal > session.gross_kcal {
-            issues.push(format!("{at}.net_kcal"), "must not exceed gross_kcal");
+            issues.push(
+                format!("{field}[{i}].net_kcal"),
+                "must not exceed gross_kcal",
+            );
         }
-        issues.range(
-            format!("{at}.carbohydrate_g"),
+        issues.range_with(
+            || format!("{field}[{i}].carbohydrate_g"),
             session.carbohydrate_g,
             0.0,
             2_000.0,
             "g",
         );
         if session.start.date() != date {
-            issues.push(format!("{at}.start"), format!("must be on {date}"));
+            issues.push(format!("{field}[{i}].start"), format!("must be on {date}"));
         }
     }
     let mut order: Vec<usize> = (0..sessions.len()).collect();

@@ -151,8 +151,8 @@ pub struct DayPins {
 impl PlanSettings {
     /// Adds every out-of-range setting to `issues`, named under `prefix`.
     pub fn validate(&self, prefix: &str, issues: &mut Issues) {
-        issues.range(
-            format!("{prefix}.non_exercise_activity_factor"),
+        issues.range_with(
+            || format!("{prefix}.non_exercise_activity_factor"),
             self.non_exercise_activity_factor,
             1.1,
             2.0,
@@ -160,50 +160,50 @@ impl PlanSettings {
         );
         self.energy_availability
             .validate(&format!("{prefix}.energy_availability"), issues);
-        issues.range(
-            format!("{prefix}.default_body_fat.male_percent"),
+        issues.range_with(
+            || format!("{prefix}.default_body_fat.male_percent"),
             self.default_body_fat.male_percent,
             3.0,
             50.0,
             "%",
         );
-        issues.range(
-            format!("{prefix}.default_body_fat.female_percent"),
+        issues.range_with(
+            || format!("{prefix}.default_body_fat.female_percent"),
             self.default_body_fat.female_percent,
             3.0,
             50.0,
             "%",
         );
-        issues.range(
-            format!("{prefix}.max_body_mass_change_percent_per_week"),
+        issues.range_with(
+            || format!("{prefix}.max_body_mass_change_percent_per_week"),
             self.max_body_mass_change_percent_per_week,
             0.1,
             1.5,
             "% per week",
         );
-        issues.range(
-            format!("{prefix}.moderate_intensity_fraction_vo2max"),
+        issues.range_with(
+            || format!("{prefix}.moderate_intensity_fraction_vo2max"),
             self.moderate_intensity_fraction_vo2max,
             0.3,
             0.7,
             "(fraction of VO2max)",
         );
-        issues.range(
-            format!("{prefix}.protein_g_per_kg"),
+        issues.range_with(
+            || format!("{prefix}.protein_g_per_kg"),
             self.protein_g_per_kg,
             1.2,
             2.0,
             "g/kg",
         );
-        issues.range(
-            format!("{prefix}.protein_g_per_kg_during_loss"),
+        issues.range_with(
+            || format!("{prefix}.protein_g_per_kg_during_loss"),
             self.protein_g_per_kg_during_loss,
             1.2,
             2.0,
             "g/kg",
         );
-        issues.range(
-            format!("{prefix}.carbohydrate_loading_hours"),
+        issues.range_with(
+            || format!("{prefix}.carbohydrate_loading_hours"),
             self.carbohydrate_loading_hours,
             36.0,
             48.0,
@@ -218,13 +218,15 @@ impl PlanSettings {
             );
         }
         for (k, position) in self.team_sport_work_by_position.iter().enumerate() {
-            let at = format!("{prefix}.team_sport_work_by_position[{k}]");
             let name = position.position_group.trim();
             if name.is_empty() || name.chars().count() > 60 {
-                issues.push(format!("{at}.position_group"), "must be 1 to 60 characters");
+                issues.push(
+                    format!("{prefix}.team_sport_work_by_position[{k}].position_group"),
+                    "must be 1 to 60 characters",
+                );
             }
-            issues.range(
-                format!("{at}.team_sport_work_factor"),
+            issues.range_with(
+                || format!("{prefix}.team_sport_work_by_position[{k}].team_sport_work_factor"),
                 position.team_sport_work_factor,
                 0.2,
                 1.5,
@@ -238,8 +240,8 @@ impl DayPins {
     /// Adds every out-of-range pin to `issues`, named under `prefix`.
     pub fn validate(&self, prefix: &str, issues: &mut Issues) {
         if let Some(pin) = self.carbohydrate_g_per_kg {
-            issues.range(
-                format!("{prefix}.carbohydrate_g_per_kg"),
+            issues.range_with(
+                || format!("{prefix}.carbohydrate_g_per_kg"),
                 pin,
                 0.0,
                 20.0,
@@ -247,11 +249,17 @@ impl DayPins {
             );
         }
         if let Some(pin) = self.protein_g_per_kg {
-            issues.range(format!("{prefix}.protein_g_per_kg"), pin, 0.5, 4.0, "g/kg");
+            issues.range_with(
+                || format!("{prefix}.protein_g_per_kg"),
+                pin,
+                0.5,
+                4.0,
+                "g/kg",
+            );
         }
         if let Some(pin) = self.energy_kcal {
-            issues.range(
-                format!("{prefix}.energy_kcal"),
+            issues.range_with(
+                || format!("{prefix}.energy_kcal"),
                 pin,
                 500.0,
                 10_000.0,

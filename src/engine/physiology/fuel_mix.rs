@@ -178,16 +178,40 @@ pub fn carbohydrate_share(
     status: TrainingStatus,
     relative_muscle_glycogen: f64,
 ) -> f64 {
-    let share = baseline_carbohydrate_share(fraction_vo2max, status)
-        * glycogen_term(relative_muscle_glycogen)
-        * time_term(elapsed_minutes);
+    carbohydrate_share_from_baseline(
+        baseline_carbohydrate_share(fraction_vo2max, status),
+        elapsed_minutes,
+        relative_muscle_glycogen,
+    )
+}
+
+/// [`carbohydrate_share`] from the baseline share already looked up (it is
+/// constant through a segment), with the very same arithmetic.
+pub(crate) fn carbohydrate_share_from_baseline(
+    baseline: f64,
+    elapsed_minutes: f64,
+    relative_muscle_glycogen: f64,
+) -> f64 {
+    let share = baseline * glycogen_term(relative_muscle_glycogen) * time_term(elapsed_minutes);
     share.clamp(0.0, 1.0)
 }
 
 /// Share (0-1) of carbohydrate oxidation supplied by blood glucose rather than
 /// muscle glycogen, at an intensity after `elapsed_minutes`.
 pub fn blood_glucose_share_of_carbohydrate(fraction_vo2max: f64, elapsed_minutes: f64) -> f64 {
-    let at_start = interpolate_points(&BLOOD_GLUCOSE_ANCHORS, fraction_vo2max);
+    blood_glucose_share_from_start(
+        blood_glucose_share_at_start(fraction_vo2max),
+        elapsed_minutes,
+    )
+}
+
+/// The blood-glucose share at the start of a session (constant through a segment).
+pub(crate) fn blood_glucose_share_at_start(fraction_vo2max: f64) -> f64 {
+    interpolate_points(&BLOOD_GLUCOSE_ANCHORS, fraction_vo2max)
+}
+
+/// [`blood_glucose_share_of_carbohydrate`] from the share at the start.
+pub(crate) fn blood_glucose_share_from_start(at_start: f64, elapsed_minutes: f64) -> f64 {
     let rise = BLOOD_GLUCOSE_MAX_RISE * slow_rise(elapsed_minutes, BLOOD_GLUCOSE_MINUTES);
     at_start + (1.0 - at_start) * rise
 }

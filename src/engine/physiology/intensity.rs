@@ -123,16 +123,36 @@ pub(crate) fn interpolate_points(points: &[(f64, f64)], x: f64) -> f64 {
 
 /// Checks one intensity; `path` is its JSON path, e.g. `segments[1].intensity`.
 pub fn validate_intensity(intensity: &Intensity, path: &str, issues: &mut Issues) {
+    validate_intensity_at(intensity, &|| path.to_owned(), issues);
+}
+
+/// [`validate_intensity`] with the path built only for an issue (the
+/// planner validates every session it simulates).
+pub(crate) fn validate_intensity_at(
+    intensity: &Intensity,
+    at: &dyn Fn() -> String,
+    issues: &mut Issues,
+) {
     match intensity {
         Intensity::FractionVo2max { fraction } => {
-            issues.range(format!("{path}.fraction"), *fraction, 0.2, 1.2, "of VO2max");
+            issues.range_with(
+                || format!("{}.fraction", at()),
+                *fraction,
+                0.2,
+                1.2,
+                "of VO2max",
+            );
         }
-        Intensity::HeartRate { bpm } => {
-            issues.range(format!("{path}.bpm"), *bpm, 30.0, 240.0, "beats per minute")
-        }
+        Intensity::HeartRate { bpm } => issues.range_with(
+            || format!("{}.bpm", at()),
+            *bpm,
+            30.0,
+            240.0,
+            "beats per minute",
+        ),
         Intensity::HeartRateReserve { fraction } => {
-            issues.range(
-                format!("{path}.fraction"),
+            issues.range_with(
+                || format!("{}.fraction", at()),
                 *fraction,
                 0.0,
                 1.0,
@@ -140,13 +160,15 @@ pub fn validate_intensity(intensity: &Intensity, path: &str, issues: &mut Issues
             );
         }
         Intensity::SessionRpe { rating } => {
-            issues.range(format!("{path}.rating"), *rating, 0.0, 10.0, "(CR10)")
+            issues.range_with(|| format!("{}.rating", at()), *rating, 0.0, 10.0, "(CR10)")
         }
-        Intensity::Mets { mets } => issues.range(format!("{path}.mets"), *mets, 1.0, 23.0, "METs"),
+        Intensity::Mets { mets } => {
+            issues.range_with(|| format!("{}.mets", at()), *mets, 1.0, 23.0, "METs")
+        }
         Intensity::Activity { activity } => {
             if activity_by_key(activity).is_none() {
                 issues.push(
-                    format!("{path}.activity"),
+                    format!("{}.activity", at()),
                     format!("unknown activity `{activity}`; see GET /v1/activities"),
                 );
             }
@@ -155,9 +177,15 @@ pub fn validate_intensity(intensity: &Intensity, path: &str, issues: &mut Issues
             speed_kmh,
             grade_percent,
         } => {
-            issues.range(format!("{path}.speed_kmh"), *speed_kmh, 4.0, 30.0, "km/h");
-            issues.range(
-                format!("{path}.grade_percent"),
+            issues.range_with(
+                || format!("{}.speed_kmh", at()),
+                *speed_kmh,
+                4.0,
+                30.0,
+                "km/h",
+            );
+            issues.range_with(
+                || format!("{}.grade_percent", at()),
                 *grade_percent,
                 0.0,
                 30.0,
@@ -168,9 +196,15 @@ pub fn validate_intensity(intensity: &Intensity, path: &str, issues: &mut Issues
             speed_kmh,
             grade_percent,
         } => {
-            issues.range(format!("{path}.speed_kmh"), *speed_kmh, 1.0, 10.0, "km/h");
-            issues.range(
-                format!("{path}.grade_percent"),
+            issues.range_with(
+                || format!("{}.speed_kmh", at()),
+                *speed_kmh,
+                1.0,
+                10.0,
+                "km/h",
+            );
+            issues.range_with(
+                || format!("{}.grade_percent", at()),
                 *grade_percent,
                 0.0,
                 30.0,
@@ -178,7 +212,7 @@ pub fn validate_intensity(intensity: &Intensity, path: &str, issues: &mut Issues
             );
         }
         Intensity::Cycling { watts } => {
-            issues.range(format!("{path}.watts"), *watts, 10.0, 1000.0, "W")
+            issues.range_with(|| format!("{}.watts", at()), *watts, 10.0, 1000.0, "W")
         }
     }
 }

@@ -25,12 +25,15 @@ use utoipa::ToSchema;
 use crate::engine::glycogen::stores::{GlycogenCapacity, GlycogenState};
 use crate::engine::physiology::athlete::{Estimate, ResolvedAthlete, resolve_athlete};
 use crate::engine::physiology::fuel_mix::{
-    blood_glucose_share_of_carbohydrate, carbohydrate_share,
+    baseline_carbohydrate_share, blood_glucose_share_at_start, blood_glucose_share_from_start,
+    carbohydrate_share, carbohydrate_share_from_baseline,
 };
 use crate::engine::physiology::gas_exchange::{
     CARBOHYDRATE_KCAL_PER_G, FAT_KCAL_PER_G, kcal_per_litre_oxygen_at_share,
 };
-use crate::engine::physiology::intensity::{OxygenUptake, convert_validated, validate_intensity};
+use crate::engine::physiology::intensity::{
+    OxygenUptake, convert_validated, validate_intensity_at,
+};
 use crate::engine::profile::{AthleteProfile, Segment};
 use crate::engine::{InvalidInput, Issues};
 
@@ -165,7 +168,7 @@ pub fn simulate_session(
                 validate_start_glycogen(&athlete, state, &mut issues);
             }
             issues.finish()?;
-            Ok(run(&athlete, segments, start_glycogen))
+            Ok(run(&athlete, segments, start_glycogen, Detail::Full))
         }
         Err(profile_issues) => {
             let mut all = profile_issues.issues;
@@ -188,7 +191,34 @@ pub fn simulate_session_for(
         validate_start_glycogen(athlete, state, &mut issues);
     }
     issues.finish()?;
-    Ok(run(athlete, segments, start_glycogen))
+    Ok(run(athlete, segments, start_glycogen, Detail::Full))
+}
+
+/// What a simulation records besides its totals.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum Detail {
+    /// Everything in [`SessionFuel`].
+    Full,
+    /// The totals and glycogen only: `time_series`, `segments`, `estimates`
+    /// and `warnings` stay empty. Every number is computed exactly as in
+    /// `Full`; the week planner uses it where it reads only the totals.
+    Totals,
+}
+
+/// [`simulate_session_for`] recording only what `detail` asks for.
+pub(crate) fn simulate_session_detail(
+    athlete: &ResolvedAthlete,
+    segments: &[Segment],
+    start_glycogen: Option<GlycogenState>,
+    detail: Detail,
+) -> Result<SessionFuel, InvalidInput> {
+    let mut issues = Issues::default();
+    validate_segments(segments, &mut issues);
+    if let Some(state) = &start_glycogen {
+        validate_start_glycogen(athlete, state, &mut issues);
+    }
+    issues.finish()?;
+    Ok(run(athlete, segments, start_glycogen, detail))
 }
 
 /// Checks a session's segments; field paths start with `segments`.
@@ -210,9 +240,9 @@ pub(crate) fn validate_segments(segments: &[Segment], issues: &mut Issues) {
         } else {
             total += minutes;
         }
-        validate_intensity(
+        validate_intensity_at(
             &segment.intensity,
-            &format!("segments[{index}].intensity"),
+            &|| format!("segments[{index}].intensity"),
             issues,
         );
     }
@@ -252,16 +282,26 @@ fn run(
     athlete: &ResolvedAthlete,
     segments: &[Segment],
     start_glycogen: Option<GlycogenState>,
+    detail: Detail,
 ) -> SessionFuel {
+    let full = detail == Detail::Full;
     let capacity = athlete.glycogen_capacity;
     let start = start_glycogen.unwrap_or_else(|| capacity.full());
     let total_minutes: f64 = segments.iter().map(|segment| segment.minutes).sum();
 
-    let mut estimates = athlete.estimates.clone();
+    let mut estimates = if full {
+        athlete.estimates.clone()
+    } else {
+        Vec::new()
+    };
     let mut warnings = Vec::new();
     let mut uptakes: Vec<OxygenUptake> = Vec::with_capacity(segments.len());
     for (index, segment) in segments.iter().enumerate() {
         let uptake = convert_validated(athlete, &segment.intensity);
+        if !full {
+            uptakes.push(uptake);
+            continue;
+        }
         estimates.push(Estimate {
             quantity: "segment_vo2_ml_per_kg_min",
             segment: Some(index),
@@ -272,11 +312,16 @@ fn run(
         });
         uptakes.push(uptake);
     }
-    intensity_warnings(athlete, segments, &uptakes, &mut warnings);
+    if full {
+        intensity_warnings(athlete, segments, &uptakes, &mut warnings);
+    }
 
-    let mut time_series =
-        Vec::with_capacity((total_minutes / SERIES_INTERVAL_MINUTES) as usize + 2);
-    let mut segment_results = Vec::with_capacity(segments.len());
+    let mut time_series = Vec::with_capacity(if full {
+        (total_minutes / SERIES_INTERVAL_MINUTES) as usize + 2
+    } else {
+        0
+    });
+    let mut segment_results = Vec::with_capacity(if full { segments.len() } else { 0 });
     let mut totals = Totals::default();
     let mut muscle_g = start.muscle_g;
     let mut liver_g = start.liver_g;
@@ -292,6 +337,9 @@ fn run(
         let before = (totals.energy_kcal, totals.carbohydrate_g, totals.fat_g);
         let segment_end = elapsed + segment.minutes;
         let fraction = uptake.fraction_vo2max;
+        // Constant through the segment: looked up once.
+        let baseline = baseline_carbohydrate_share(fraction, athlete.training_status);
+        let blood_at_start = blood_glucose_share_at_start(fraction);
         weighted_fraction += fraction * segment.minutes;
         while elapsed < segment_end - EPSILON {
             // Steps end at whole minutes of session time, so the 5-minute
@@ -299,26 +347,23 @@ fn run(
             let next_minute = (elapsed + EPSILON).floor() + 1.0;
             let step = next_minute.min(segment_end) - elapsed;
             let relative_glycogen = muscle_g / capacity.muscle_g;
-            let share = carbohydrate_share(
-                fraction,
-                elapsed,
-                athlete.training_status,
-                relative_glycogen,
-            );
+            let share = carbohydrate_share_from_baseline(baseline, elapsed, relative_glycogen);
             if elapsed + EPSILON >= next_point {
-                time_series.push(FuelPoint {
-                    minute: next_point,
-                    fraction_vo2max: fraction,
-                    carbohydrate_share: share,
-                    cumulative_carbohydrate_g: totals.carbohydrate_g,
-                });
+                if full {
+                    time_series.push(FuelPoint {
+                        minute: next_point,
+                        fraction_vo2max: fraction,
+                        carbohydrate_share: share,
+                        cumulative_carbohydrate_g: totals.carbohydrate_g,
+                    });
+                }
                 next_point += SERIES_INTERVAL_MINUTES;
             }
 
             let energy = uptake.l_per_min * step * kcal_per_litre_oxygen_at_share(share);
             let carbohydrate = energy * share / CARBOHYDRATE_KCAL_PER_G;
             let fat = energy * (1.0 - share) / FAT_KCAL_PER_G;
-            let from_blood = carbohydrate * blood_glucose_share_of_carbohydrate(fraction, elapsed);
+            let from_blood = carbohydrate * blood_glucose_share_from_start(blood_at_start, elapsed);
             // Muscle cannot give what it no longer holds; blood glucose covers the rest.
             let from_muscle = (carbohydrate - from_blood).min(muscle_g);
             let from_blood = carbohydrate - from_muscle;
@@ -332,7 +377,10 @@ fn run(
             totals.blood_glucose_g += from_blood;
             elapsed += step;
 
-            if !muscle_low_warned && muscle_g < LOW_MUSCLE_GLYCOGEN_FRACTION * capacity.muscle_g {
+            if full
+                && !muscle_low_warned
+                && muscle_g < LOW_MUSCLE_GLYCOGEN_FRACTION * capacity.muscle_g
+            {
                 muscle_low_warned = true;
                 warnings.push(SessionWarning {
                     code: WarningCode::MuscleGlycogenLow,
@@ -344,7 +392,8 @@ fn run(
                     segment: Some(index),
                 });
             }
-            if !liver_low_warned && liver_g < LOW_LIVER_GLYCOGEN_FRACTION * capacity.liver_g {
+            if full && !liver_low_warned && liver_g < LOW_LIVER_GLYCOGEN_FRACTION * capacity.liver_g
+            {
                 liver_low_warned = true;
                 warnings.push(SessionWarning {
                     code: WarningCode::LiverGlycogenLow,
@@ -356,6 +405,9 @@ fn run(
                     segment: Some(index),
                 });
             }
+        }
+        if !full {
+            continue;
         }
         segment_results.push(SegmentFuel {
             index,
@@ -371,9 +423,10 @@ fn run(
     }
 
     // Final point at the end of the session, unless a 5-minute point is there.
-    if time_series
-        .last()
-        .is_none_or(|point| point.minute < total_minutes - EPSILON)
+    if full
+        && time_series
+            .last()
+            .is_none_or(|point| point.minute < total_minutes - EPSILON)
     {
         let fraction = uptakes.last().map_or(0.0, |uptake| uptake.fraction_vo2max);
         time_series.push(FuelPoint {

@@ -254,7 +254,8 @@ pub(super) fn validate(input: &WeekInput) -> Result<ResolvedAthlete, InvalidInpu
         pins: DayPins::default(),
         health_flags: Vec::new(),
     };
-    if let Err(error) = plan_day(&blank_day) {
+    // Only its issues are read: no explanation texts.
+    if let Err(error) = plan_day_with(&blank_day, Explain::No) {
         for issue in error.issues {
             if !issues.0.iter().any(|known| known.field == issue.field) {
                 issues.0.push(issue);

@@ -17,14 +17,15 @@
 //!
 //! ## Order of work for each day
 //!
-//! 1. **Forecast** today's sessions with [`simulate_session_for`], chaining
+//! 1. **Forecast** today's sessions with
+//!    [`crate::engine::physiology::session::simulate_session_for`], chaining
 //!    them from the glycogen state at midnight (no intake counted yet).
 //!    Sessions tomorrow and the day after (look-ahead for the day planner) are
 //!    forecast from normal full stores: that is the state the plan aims to
 //!    deliver, and forecasting them from depleted stores would lower their
 //!    carbohydrate demand and so, perversely, today's target. Yesterday's
 //!    sessions are passed as they were simulated.
-//! 2. **Plan the day** with [`plan_day`] (settings, pins and health flags
+//! 2. **Plan the day** with [`crate::engine::day::plan::plan_day`] (settings, pins and health flags
 //!    passed through): targets and eating occasions.
 //! 3. **Simulate the day** in steps of at most 15 minutes, split at every
 //!    eating occasion and session boundary ([`crate::engine::glycogen::balance`]):
@@ -65,7 +66,7 @@ use uuid::Uuid;
 use crate::engine::day::energy_availability::EnergyAvailabilityBand;
 use crate::engine::day::notes::{Severity, WarningCode};
 use crate::engine::day::occasions::EatingOccasion;
-use crate::engine::day::plan::{DayInput, DayPlan, plan_day};
+use crate::engine::day::plan::{DayInput, DayPlan, Explain, plan_day_with};
 use crate::engine::day::session_fuelling::{
     SPEEDY_REFUELLING_GAP_HOURS, SPEEDY_REFUELLING_MAX_HOURS,
 };
@@ -77,8 +78,8 @@ use crate::engine::glycogen::balance::{
 use crate::engine::glycogen::stores::{GlycogenCapacity, GlycogenState};
 use crate::engine::physiology::athlete::{Estimate, ResolvedAthlete, resolve_athlete};
 use crate::engine::physiology::session::{
-    LOW_LIVER_GLYCOGEN_FRACTION, LOW_MUSCLE_GLYCOGEN_FRACTION, SessionFuel, simulate_session_for,
-    validate_segments,
+    Detail, LOW_LIVER_GLYCOGEN_FRACTION, LOW_MUSCLE_GLYCOGEN_FRACTION, SessionFuel,
+    simulate_session_detail, validate_segments,
 };
 use crate::engine::profile::{AthleteProfile, GoalDirection, Segment, SessionKind};
 use crate::engine::{FieldIssue, InvalidInput, Issues};
@@ -211,10 +212,21 @@ impl<'a> Planner<'a> {
         athlete: usize,
         index: usize,
         start: Option<GlycogenState>,
+        detail: Detail,
     ) -> Result<SessionFuel, InvalidInput> {
         let segments = &self.input.sessions[index].segments;
-        simulate_session_for(&self.for_session(athlete, index), segments, start)
+        simulate_session_detail(&self.for_session(athlete, index), segments, start, detail)
             .map_err(|error| remap(error, |field| format!("sessions[{index}].{field}")))
+    }
+
+    /// What a simulation of a session as it is done must record: the full
+    /// result only when the plan returns it.
+    fn detail(&self) -> Detail {
+        if self.input.include_session_fuel {
+            Detail::Full
+        } else {
+            Detail::Totals
+        }
     }
 
     /// The athlete as they do session `index`: in a pitch session (training
@@ -239,10 +251,11 @@ impl<'a> Planner<'a> {
     /// player), simulated from normal stores.
     fn simulate_prepared(&self, athlete: usize, index: usize) -> Result<SessionFuel, InvalidInput> {
         let session = &self.input.sessions[index];
+        // Only the totals of a forecast are read.
         let Some(prepared) = &session.prepared_segments else {
-            return self.simulate(athlete, index, None);
+            return self.simulate(athlete, index, None, Detail::Totals);
         };
-        simulate_session_for(&self.athletes[athlete], prepared, None)
+        simulate_session_detail(&self.athletes[athlete], prepared, None, Detail::Totals)
             .map_err(|error| remap(error, |field| format!("sessions[{index}].prepared_{field}")))
     }
 
@@ -364,7 +377,9 @@ impl<'a> Planner<'a> {
 
             // 2-3. Plan, then simulate the day with the plan's intake and the
             //      sessions as they are done.
-            let plan = self.plan(&day_input)?;
+            // Days before the span are planned only for their intake.
+            let explain = if in_span { Explain::Yes } else { Explain::No };
+            let plan = self.plan(&day_input, explain)?;
             let run =
                 self.simulate_day(&timeline, date, &plan.eating_occasions, &today, athlete)?;
 
@@ -479,8 +494,8 @@ impl<'a> Planner<'a> {
     }
 
     /// Calls the day planner, naming week fields in its errors.
-    fn plan(&self, day: &DayInput) -> Result<DayPlan, InvalidInput> {
-        plan_day(day).map_err(|error| {
+    fn plan(&self, day: &DayInput, explain: Explain) -> Result<DayPlan, InvalidInput> {
+        plan_day_with(day, explain).map_err(|error| {
             let lists: [(&str, &[SessionWork]); 4] = [
                 ("sessions", &day.sessions),
                 ("next_day_sessions", &day.next_day_sessions),

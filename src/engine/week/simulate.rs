@@ -127,7 +127,7 @@ impl Planner<'_> {
                     muscle_g: timeline.stores.muscle_g,
                     liver_g: timeline.stores.liver_g,
                 };
-                let fuel = self.simulate(athlete, index, Some(state))?;
+                let fuel = self.simulate(athlete, index, Some(state), self.detail())?;
                 let clock_hours = session.clock_minutes() / 60.0;
                 starts.push((
                     index,
