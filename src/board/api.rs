@@ -144,9 +144,45 @@ async fn send(
 }
 
 pub fn decode<T: DeserializeOwned>(bytes: &[u8], what: &str) -> Result<T, ApiFailure> {
-    serde_json::from_slice(bytes).map_err(|e| {
+    let unreadable = |e: serde_json::Error| {
         // The board and the API disagree on a shape: a bug to fix in view.rs.
         tracing::error!(error = %e, "board could not read an API answer");
         ApiFailure::Unreadable(format!("{what}: {e}"))
-    })
+    };
+    let mut value: serde_json::Value = serde_json::from_slice(bytes).map_err(unreadable)?;
+    cite_in_place(&mut value);
+    serde_json::from_value(value).map_err(unreadable)
+}
+
+/// Undoes the wire's "sources once per response" (`http::output`): every
+/// `source_id` becomes the `source` text of the top-level `sources` table,
+/// so the view model reads each number's source beside it.
+fn cite_in_place(value: &mut serde_json::Value) {
+    use serde_json::Value;
+    let Value::Object(root) = value else { return };
+    let Some(Value::Array(table)) = root.remove(crate::http::output::SOURCES_FIELD) else {
+        return;
+    };
+    let texts: Vec<Value> = table
+        .into_iter()
+        .map(|entry| entry.get("text").cloned().unwrap_or(Value::Null))
+        .collect();
+    fn walk(value: &mut Value, texts: &[Value]) {
+        match value {
+            Value::Object(map) => {
+                if let Some(id) = map
+                    .get(crate::http::output::SOURCE_ID_FIELD)
+                    .and_then(Value::as_u64)
+                    && let Some(text) = texts.get(id as usize)
+                {
+                    map.remove(crate::http::output::SOURCE_ID_FIELD);
+                    map.insert(crate::http::output::SOURCE_FIELD.into(), text.clone());
+                }
+                map.values_mut().for_each(|v| walk(v, texts));
+            }
+            Value::Array(items) => items.iter_mut().for_each(|v| walk(v, texts)),
+            _ => {}
+        }
+    }
+    walk(value, &texts);
 }

@@ -13,6 +13,41 @@ use uuid::Uuid;
 
 // ------------------------------------------------------------- API shapes
 
+/// Plan times arrive as RFC 3339 local times with the team zone's offset
+/// (`2026-12-07T10:00:00+00:00`); the board shows the wall-clock part, which
+/// is what was planned. A time without an offset is read as it is.
+mod local_time {
+    use chrono::{DateTime, NaiveDateTime};
+    use serde::{Deserialize, Deserializer, de::Error};
+
+    pub fn parse(text: &str) -> Option<NaiveDateTime> {
+        DateTime::parse_from_rfc3339(text)
+            .map(|t| t.naive_local())
+            .ok()
+            .or_else(|| text.parse().ok())
+    }
+
+    pub fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<NaiveDateTime, D::Error> {
+        let text = String::deserialize(d)?;
+        parse(&text).ok_or_else(|| D::Error::custom(format!("not a local date-time: {text}")))
+    }
+
+    pub mod option {
+        use super::*;
+
+        pub fn deserialize<'de, D: Deserializer<'de>>(
+            d: D,
+        ) -> Result<Option<NaiveDateTime>, D::Error> {
+            match Option::<String>::deserialize(d)? {
+                None => Ok(None),
+                Some(text) => super::parse(&text)
+                    .map(Some)
+                    .ok_or_else(|| D::Error::custom(format!("not a local date-time: {text}"))),
+            }
+        }
+    }
+}
+
 /// RFC 9457 problem as the API sends it.
 #[derive(Debug, Clone, Deserialize)]
 pub struct Problem {
@@ -157,7 +192,7 @@ pub struct SessionRef {
     #[serde(default)]
     pub session_id: Option<Uuid>,
     pub title: String,
-    #[serde(default)]
+    #[serde(default, deserialize_with = "local_time::option::deserialize")]
     pub start: Option<NaiveDateTime>,
 }
 
@@ -171,7 +206,7 @@ pub struct WeekWarning {
     pub date: NaiveDate,
     #[serde(default)]
     pub until: Option<NaiveDate>,
-    #[serde(default)]
+    #[serde(default, deserialize_with = "local_time::option::deserialize")]
     pub time: Option<NaiveDateTime>,
     #[serde(default)]
     pub session: Option<SessionRef>,
@@ -219,7 +254,9 @@ pub struct WeekSession {
     pub session_id: Option<Uuid>,
     pub title: String,
     pub kind: String,
+    #[serde(deserialize_with = "local_time::deserialize")]
     pub start: NaiveDateTime,
+    #[serde(deserialize_with = "local_time::deserialize")]
     pub end: NaiveDateTime,
     #[serde(default)]
     pub key: bool,
@@ -278,6 +315,7 @@ pub struct Load {
 
 #[derive(Debug, Clone, Deserialize)]
 pub struct Occasion {
+    #[serde(deserialize_with = "local_time::deserialize")]
     pub time: NaiveDateTime,
     pub kind: String,
     #[serde(default)]
@@ -340,6 +378,7 @@ pub struct WeekDay {
 
 #[derive(Debug, Clone, Copy, Deserialize)]
 pub struct GlycogenPoint {
+    #[serde(deserialize_with = "local_time::deserialize")]
     pub time: NaiveDateTime,
     pub muscle_fraction: f64,
 }

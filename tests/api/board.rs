@@ -248,3 +248,52 @@ async fn bad_board_addresses_get_pages_not_crashes() {
     .await;
     assert_eq!(res.status(), StatusCode::UNPROCESSABLE_ENTITY);
 }
+
+#[tokio::test]
+async fn the_athlete_page_shows_each_numbers_source_and_local_times_from_the_wire_shape() {
+    // The API sends sources once per response (`source_id` + `sources`) and
+    // local times with their offset; the page must still show both.
+    let app = spawn_app().await;
+    let team = app.team("Board FC").await;
+    let athlete = app.athlete(team, "Ines Ilbery").await;
+    app.session(team, "2026-12-08").await;
+    let planner = cookie(&app, &app.token("planner", team).await).await;
+    let plan: Value = app
+        .get(
+            &format!("/v1/athletes/{athlete}/plan?from=2026-12-07&to=2026-12-13"),
+            &app.admin,
+        )
+        .await
+        .json()
+        .await
+        .unwrap();
+    let sources = plan["sources"].as_array().expect("sources table");
+    assert!(!sources.is_empty());
+    let page = get(
+        &app,
+        &planner,
+        &format!("/board/athletes/{athlete}?week=2026-W50"),
+    )
+    .await;
+    assert_eq!(page.status(), 200);
+    let html = page.text().await.unwrap();
+    let shown = sources
+        .iter()
+        .filter(|s| {
+            let text = s["text"].as_str().unwrap();
+            html.contains(
+                &text
+                    .replace('&', "&amp;")
+                    .replace('<', "&lt;")
+                    .replace('>', "&gt;")
+                    .replace('"', "&quot;")
+                    .replace('\'', "&#39;"),
+            )
+        })
+        .count();
+    assert!(shown > 0, "no source text of the plan is on the page");
+    assert!(
+        html.contains("10:00"),
+        "the session's local start time is shown"
+    );
+}

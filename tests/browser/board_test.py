@@ -11,6 +11,8 @@ error. Screenshots go to target/board-screenshots/.
     tests/browser/board_test.py [path/to/glycoweek]
 """
 
+import csv
+import io
 import json
 import os
 import re
@@ -318,7 +320,7 @@ def main():
                 assert "/changes" in page.url
                 assert "carbohydrate g per kg" in page.inner_text("table.changes")
                 pins, _ = api.get(f"/v1/athletes/{aid}/pins?from={date}&to={date}")
-                assert pins[0]["carbohydrate_g_per_kg"] == 7.5
+                assert pins["items"][0]["carbohydrate_g_per_kg"] == 7.5
                 page.goto(f"{base}/board/athletes/{aid}#d-{date}")
                 sec = page.locator(f"section#d-{date}")
                 sec.locator("summary:has-text('Pin this day')").click()
@@ -326,7 +328,7 @@ def main():
                 page.wait_for_load_state("load")
                 assert "/changes" in page.url
                 pins, _ = api.get(f"/v1/athletes/{aid}/pins?from={date}&to={date}")
-                assert pins == []
+                assert pins["items"] == []
             run.check("a day pin is set (bad values refused with a message) and cleared", pin)
 
             def minutes():
@@ -353,17 +355,20 @@ def main():
                 reader_ = PdfReader(str(pdf))
                 text = " ".join(" ".join(p.extract_text() for p in reader_.pages).split())
                 assert len(reader_.pages) >= 4, len(reader_.pages)
-                status, _, csv = api.call("GET", f"/v1/teams/{team}/plan/summary.csv")
-                rows = [l.split(",") for l in csv.decode().splitlines()[1:] if l.startswith(date)]
-                assert len(rows) == len(athletes) + 1
+                # Athlete rows from the summary CSV, squad totals from their own
+                # sheet; columns are named as the JSON fields.
+                status, _, body = api.call("GET", f"/v1/teams/{team}/plan/summary.csv")
+                rows = [r for r in csv.DictReader(io.StringIO(body.decode())) if r["date"] == date]
+                assert len(rows) == len(athletes), (len(rows), len(athletes))
                 for r in rows:
-                    name = r[2]
+                    name = r["display_name"]
                     assert name in text, f"{name} not in the printed sheet"
-                    if name != "TOTAL":
-                        cell = page.locator(f"section.totals tr[data-athlete='{r[1]}'] [data-field=carbohydrate_g]")
-                        assert float(cell.inner_text()) == float(r[5]), (name, cell.inner_text(), r[5])
-                total = next(r for r in rows if r[2] == "TOTAL")
-                assert one(float(total[5]), 1) in page.inner_text("section.totals tfoot")
+                    cell = page.locator(f"section.totals tr[data-athlete='{r['athlete_id']}'] [data-field=carbohydrate_g]")
+                    assert float(cell.inner_text()) == float(r["carbohydrate_g"]), (name, cell.inner_text(), r["carbohydrate_g"])
+                status, _, body = api.call("GET", f"/v1/teams/{team}/plan/totals.csv")
+                total = next(r for r in csv.DictReader(io.StringIO(body.decode())) if r["date"] == date)
+                assert int(total["athletes"]) == len(athletes), total
+                assert one(float(total["carbohydrate_g"]), 1) in page.inner_text("section.totals tfoot")
                 # Look at the first printed page as a picture, for review.
                 if shutil.which("pdftoppm"):
                     subprocess.run(["pdftoppm", "-png", "-r", "60", "-f", "1", "-l", "1", str(pdf), str(SHOTS / "kitchen-print")], check=False)
