@@ -60,9 +60,48 @@ pub fn changes_url(team_id: Uuid, since: i64, span: (NaiveDate, NaiveDate), done
     )
 }
 
+/// A change of one field as a person reads it: glycogen as a percentage of
+/// normal stores, eating occasions as "kind hh:mm" with only the ones that
+/// moved, other values as they are.
+fn show_change(field: &str, before: &serde_json::Value, after: &serde_json::Value) -> String {
+    use serde_json::Value;
+    if let (Value::Array(b), Value::Array(a)) = (before, after)
+        && field == "eating_occasions"
+    {
+        let only = |xs: &[Value], ys: &[Value]| -> String {
+            let left: Vec<String> = xs.iter().filter(|x| !ys.contains(x)).map(show).collect();
+            if left.is_empty() {
+                "none".into()
+            } else {
+                left.join(", ")
+            }
+        };
+        return format!("{} → {}", only(b, a), only(a, b));
+    }
+    let as_percent = |v: &Value| match v.as_f64() {
+        Some(f) => format!("{} %", crate::board::html::num(f * 100.0, 1)),
+        None => show(v),
+    };
+    if field.contains("glycogen") {
+        format!("{} → {}", as_percent(before), as_percent(after))
+    } else {
+        format!("{} → {}", show(before), show(after))
+    }
+}
+
 fn show(v: &serde_json::Value) -> String {
     match v {
         serde_json::Value::Null => "–".into(),
+        serde_json::Value::Object(map)
+            if map.get("kind").is_some_and(|k| k.is_string())
+                && map.get("time").is_some_and(|t| t.is_string()) =>
+        {
+            format!(
+                "{} {}",
+                words(map["kind"].as_str().unwrap_or_default()),
+                map["time"].as_str().unwrap_or_default()
+            )
+        }
         serde_json::Value::String(s) => words(s),
         serde_json::Value::Array(items) if items.is_empty() => "none".into(),
         serde_json::Value::Array(items) => items.iter().map(show).collect::<Vec<_>>().join(", "),
@@ -183,10 +222,9 @@ fn render(out: &mut String, c: &view::PlanChanges, week: &str) {
             .filter(|f| f.field != "athlete_id" && f.field != "date")
             .map(|f| {
                 format!(
-                    "<li>{}: {} → {}</li>",
+                    "<li>{}: {}</li>",
                     esc(&words(&f.field)),
-                    esc(&show(&f.before)),
-                    esc(&show(&f.after))
+                    esc(&show_change(&f.field, &f.before, &f.after))
                 )
             })
             .collect();
@@ -206,4 +244,28 @@ fn render(out: &mut String, c: &view::PlanChanges, week: &str) {
         );
     }
     out.push_str("</tbody></table>");
+}
+
+#[cfg(test)]
+mod tests {
+    use super::show_change;
+    use serde_json::json;
+
+    #[test]
+    fn changes_read_as_a_person_reads_them() {
+        let before = json!([{"kind": "breakfast", "time": "07:30"}, {"kind": "pre_session", "time": "08:00"}]);
+        let after = json!([{"kind": "breakfast", "time": "07:30"}, {"kind": "pre_session", "time": "15:45"}]);
+        assert_eq!(
+            show_change("eating_occasions", &before, &after),
+            "pre session 08:00 → pre session 15:45"
+        );
+        assert_eq!(
+            show_change("muscle_glycogen_end", &json!(0.968), &json!(0.954)),
+            "96.8 % → 95.4 %"
+        );
+        assert_eq!(
+            show_change("carbohydrate_g_per_kg", &json!(6.5), &json!(6.25)),
+            "6.5 → 6.25"
+        );
+    }
 }
