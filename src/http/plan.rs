@@ -593,9 +593,9 @@ async fn save_snapshot(
 ) {
     // A snapshot is a convenience for "what changed"; failing to store one
     // (read-only disk, busy writer) must not fail the plan itself.
-    match plans::snapshot(&state.db, team_id, version, span).await {
-        Ok(Some(_)) => {}
-        Ok(None) => {
+    match plans::has_snapshot(&state.db, team_id, version, span).await {
+        Ok(true) => {}
+        Ok(false) => {
             let rows = serde_json::to_string(&snapshot_rows(weeks)).unwrap_or_default();
             if let Err(e) = plans::save_snapshot(&state.db, team_id, version, span, &rows).await {
                 tracing::warn!(error = %e, "could not store a plan snapshot");
