@@ -182,7 +182,8 @@ pub struct PlanOptions {
 /// One athlete's plan, or why there is none.
 pub struct AthleteWeek {
     pub athlete: Athlete,
-    pub plan: Result<WeekPlan, Vec<String>>,
+    /// Shared with the plan memo: read it, never copy it whole.
+    pub plan: Result<std::sync::Arc<WeekPlan>, Vec<String>>,
 }
 
 /// The engine input for one athlete.
@@ -313,7 +314,7 @@ pub fn plan_athletes_with(
         plan: week_input(data, pins, athlete, options).and_then(|input| {
             match memo {
                 Some(memo) => memo.plan(&input),
-                None => plan_week(&input),
+                None => plan_week(&input).map(std::sync::Arc::new),
             }
             .map_err(|e| {
                 e.issues

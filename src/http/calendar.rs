@@ -161,7 +161,7 @@ async fn calendar(
     let body = tokio::task::spawn_blocking(move || {
         let weeks = planner::plan_athletes(&data, &pins, std::slice::from_ref(&athlete), &options);
         let plan = weeks.into_iter().next().and_then(|w| w.plan.ok());
-        render_calendar(&athlete.display_name, athlete.id, plan.as_ref(), &tz)
+        render_calendar(&athlete.display_name, athlete.id, plan.as_deref(), &tz)
     })
     .await
     .map_err(ApiError::internal)?;

@@ -228,7 +228,7 @@ fn cached(state: &AppState, headers: &HeaderMap, etag: &str) -> Option<Response>
     state
         .plan_cache
         .get(etag)
-        .map(|body| plan_response(headers, body, etag))
+        .map(|body| plan_response(state, headers, body, etag))
 }
 
 /// Whether `Accept-Encoding` accepts gzip (RFC 9110 section 12.5.3).
@@ -249,11 +249,20 @@ pub fn accepts_gzip(headers: &HeaderMap) -> bool {
         })
 }
 
-/// A plan body in the encoding the client accepts; the compressed form was
-/// made once, when the plan was computed.
-fn plan_response(headers: &HeaderMap, body: CachedBody, etag: &str) -> Response {
-    let gzip = accepts_gzip(headers);
-    let bytes = if gzip { body.gzip } else { body.plain };
+/// A plan body in the encoding the client accepts; the compressed form is
+/// made once, at the first read that accepts it, and kept in the cache.
+fn plan_response(state: &AppState, headers: &HeaderMap, body: CachedBody, etag: &str) -> Response {
+    let packed = if accepts_gzip(headers) {
+        match body.gzip {
+            Some(packed) => Some(packed),
+            // Compression failing (it cannot, in memory) falls back to plain.
+            None => state.plan_cache.gzip_of(etag, &body.plain).ok(),
+        }
+    } else {
+        None
+    };
+    let gzip = packed.is_some();
+    let bytes = packed.unwrap_or(body.plain);
     let mut res = (StatusCode::OK, bytes).into_response();
     let h = res.headers_mut();
     h.insert(
@@ -268,7 +277,7 @@ fn plan_response(headers: &HeaderMap, body: CachedBody, etag: &str) -> Response 
 }
 
 /// Serialises a plan (sources once; local times placed in the team's zone),
-/// keeps it in the cache under its ETag in both encodings, and responds.
+/// keeps it in the cache under its ETag, and responds.
 fn store_and_respond<T: Serialize>(
     state: &AppState,
     headers: &HeaderMap,
@@ -279,9 +288,9 @@ fn store_and_respond<T: Serialize>(
     let plain = axum::body::Bytes::from(
         super::to_wire_bytes(body, Some(zone)).map_err(ApiError::internal)?,
     );
-    let body = CachedBody::new(plain).map_err(ApiError::internal)?;
+    let body = CachedBody::new(plain);
     state.plan_cache.put(etag, body.clone());
-    Ok(plan_response(headers, body, etag))
+    Ok(plan_response(state, headers, body, etag))
 }
 
 /// Loads the team's data and computes the plans of `athletes` (all active
@@ -380,7 +389,9 @@ async fn athlete_plans(
                 _ => None,
             };
             let (plan, problems) = match w.plan {
-                Ok(mut plan) => {
+                Ok(plan) => {
+                    // Copied only here, where the response changes it.
+                    let mut plan = std::sync::Arc::unwrap_or_clone(plan);
                     if !include_glycogen_series {
                         plan.glycogen_series.clear();
                     }

@@ -1,9 +1,10 @@
 //! Computed plans kept in memory under their ETag. The ETag holds the team's
 //! input version, so any change makes new requests miss the cache: nothing
 //! is ever served stale, and no invalidation is needed. Each plan is kept
-//! both as JSON and gzip-compressed, so a cached read by a client that
-//! accepts gzip is served without compressing again. Bounded in bytes (both
-//! forms count); the least recently used plans go first.
+//! as JSON and, from the first read by a client that accepts gzip, also
+//! gzip-compressed, so later gzip reads are served without compressing
+//! again (and a plan nobody reads compressed is never compressed). Bounded
+//! in bytes (both forms count); the least recently used plans go first.
 
 use std::collections::HashMap;
 use std::io::Write as _;
@@ -11,28 +12,31 @@ use std::sync::Mutex;
 
 use axum::body::Bytes;
 
-/// One plan body in both encodings.
+/// One plan body, plain and (once a client asked for it) gzip.
 #[derive(Clone)]
 pub struct CachedBody {
     pub plain: Bytes,
-    pub gzip: Bytes,
+    pub gzip: Option<Bytes>,
 }
 
 impl CachedBody {
-    /// Compresses `plain` once (gzip, default level).
-    pub fn new(plain: Bytes) -> std::io::Result<Self> {
-        let mut encoder = flate2::write::GzEncoder::new(
-            Vec::with_capacity(plain.len() / 8),
-            flate2::Compression::default(),
-        );
-        encoder.write_all(&plain)?;
-        let gzip = Bytes::from(encoder.finish()?);
-        Ok(Self { plain, gzip })
+    pub fn new(plain: Bytes) -> Self {
+        Self { plain, gzip: None }
     }
 
     fn bytes(&self) -> usize {
-        self.plain.len() + self.gzip.len()
+        self.plain.len() + self.gzip.as_ref().map_or(0, Bytes::len)
     }
+}
+
+/// Gzip of a body (default level).
+pub fn gzip(plain: &[u8]) -> std::io::Result<Bytes> {
+    let mut encoder = flate2::write::GzEncoder::new(
+        Vec::with_capacity(plain.len() / 8),
+        flate2::Compression::default(),
+    );
+    encoder.write_all(plain)?;
+    Ok(Bytes::from(encoder.finish()?))
 }
 
 pub struct PlanCache {
@@ -92,6 +96,24 @@ impl PlanCache {
         }
     }
 
+    /// Compresses a plan read from the cache without its gzip form and
+    /// keeps the result beside the plain body (the compression runs outside
+    /// the lock; a plan evicted meanwhile is simply not updated).
+    pub fn gzip_of(&self, key: &str, plain: &Bytes) -> std::io::Result<Bytes> {
+        let packed = gzip(plain)?;
+        let mut inner = self.inner.lock().unwrap_or_else(|p| p.into_inner());
+        let Inner { entries, bytes, .. } = &mut *inner;
+        if let Some((body, _)) = entries.get_mut(key)
+            && body.gzip.is_none()
+            && body.plain == *plain
+        {
+            *bytes += packed.len();
+            body.gzip = Some(packed.clone());
+        }
+        drop(inner);
+        Ok(packed)
+    }
+
     /// Bytes held (both encodings of every plan).
     pub fn bytes(&self) -> usize {
         self.inner.lock().unwrap_or_else(|p| p.into_inner()).bytes
@@ -105,7 +127,7 @@ mod tests {
     fn body(plain: &'static [u8]) -> CachedBody {
         CachedBody {
             plain: Bytes::from_static(plain),
-            gzip: Bytes::from_static(b"z"),
+            gzip: Some(Bytes::from_static(b"z")),
         }
     }
 
@@ -124,13 +146,22 @@ mod tests {
     }
 
     #[test]
-    fn the_compressed_form_decompresses_to_the_plain_one() {
+    fn the_compressed_form_is_made_once_kept_counted_and_decompresses_to_the_plain_one() {
         use std::io::Read as _;
+        let cache = PlanCache::new(1 << 20);
         let plain = Bytes::from("{\"a\":1}".repeat(100));
-        let body = CachedBody::new(plain.clone()).unwrap();
-        assert!(body.gzip.len() < plain.len());
+        cache.put("p", CachedBody::new(plain.clone()));
+        assert_eq!(
+            cache.bytes(),
+            plain.len(),
+            "nothing compressed before a gzip read"
+        );
+        let packed = cache.gzip_of("p", &plain).unwrap();
+        assert!(packed.len() < plain.len());
+        assert_eq!(cache.get("p").unwrap().gzip.as_ref(), Some(&packed), "kept");
+        assert_eq!(cache.bytes(), plain.len() + packed.len(), "and counted");
         let mut out = String::new();
-        flate2::read::GzDecoder::new(&body.gzip[..])
+        flate2::read::GzDecoder::new(&packed[..])
             .read_to_string(&mut out)
             .unwrap();
         assert_eq!(out.as_bytes(), &plain[..]);
