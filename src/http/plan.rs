@@ -307,7 +307,7 @@ async fn compute(
     {
         return Err(ApiError::field(
             "start_glycogen_fraction",
-            "must be between 0.2 and 1.3",
+            "must be between 0.2 and 1.0",
         ));
     }
     let load_span = (
