@@ -77,6 +77,7 @@ pub fn squad_inputs(athletes: usize, weeks: u64) -> Vec<WeekInput> {
                 start_glycogen: None,
                 thresholds: Default::default(),
                 include_session_fuel: false,
+                explain_days: true,
             }
         })
         .collect()

@@ -177,6 +177,8 @@ pub struct PlanOptions {
     pub start_glycogen_fraction: Option<f64>,
     /// Include each session's full minute-by-minute fuel result.
     pub include_session_fuel: bool,
+    /// Write each day's explanations (false for figure-only reads).
+    pub explain_days: bool,
 }
 
 /// One athlete's plan, or why there is none.
@@ -287,6 +289,7 @@ pub fn week_input(
         start_glycogen,
         thresholds: options.thresholds,
         include_session_fuel: options.include_session_fuel,
+        explain_days: options.explain_days,
     })
 }
 

@@ -157,6 +157,7 @@ async fn calendar(
         thresholds: WeekThresholds::default(),
         start_glycogen_fraction: None,
         include_session_fuel: false,
+        explain_days: false,
     };
     let body = tokio::task::spawn_blocking(move || {
         let weeks = planner::plan_athletes(&data, &pins, std::slice::from_ref(&athlete), &options);

@@ -301,6 +301,7 @@ async fn compute(
     q: &PlanParams,
     span: (NaiveDate, NaiveDate),
     only: Option<Uuid>,
+    explain_days: bool,
 ) -> Result<(TeamData, Vec<AthleteWeek>)> {
     if let Some(f) = q.start_glycogen_fraction
         && !(0.2..=1.0).contains(&f)
@@ -323,6 +324,7 @@ async fn compute(
         thresholds: WeekThresholds::default(),
         start_glycogen_fraction: q.start_glycogen_fraction,
         include_session_fuel: q.include_session_fuel.unwrap_or(false),
+        explain_days,
     };
     let memo = state.plan_memo.clone();
     let core = state.plan_flights.core().await;
@@ -435,7 +437,7 @@ async fn team_plan(
         Ok(res) => return Ok(res),
         Err(key) => key,
     };
-    let (data, weeks) = compute(&state, team, &q, span, None).await?;
+    let (data, weeks) = compute(&state, team, &q, span, None, true).await?;
     save_snapshot(&state, team_id, version, span, &weeks).await;
     let athletes = athlete_plans(
         &state,
@@ -715,7 +717,7 @@ async fn team_summary(
         Err(key) => key,
     };
     let zone = team.tz();
-    let (_, weeks) = compute(&state, team, &q, span, None).await?;
+    let (_, weeks) = compute(&state, team, &q, span, None, false).await?;
     save_snapshot(&state, team_id, version, span, &weeks).await;
     let rows = summary_rows(&weeks);
     let body = TeamSummary {
@@ -918,7 +920,7 @@ async fn team_summary_csv(
     if let Some(res) = not_modified(&headers, &etag)? {
         return Ok(res);
     }
-    let (_, weeks) = compute(&state, team, &q, span, None).await?;
+    let (_, weeks) = compute(&state, team, &q, span, None, false).await?;
     let bytes = summary_csv(&summary_rows(&weeks)).map_err(ApiError::internal)?;
     Ok(csv_response(
         bytes,
@@ -948,7 +950,7 @@ async fn team_totals_csv(
     if let Some(res) = not_modified(&headers, &etag)? {
         return Ok(res);
     }
-    let (_, weeks) = compute(&state, team, &q, span, None).await?;
+    let (_, weeks) = compute(&state, team, &q, span, None, false).await?;
     let bytes = records_csv(&TOTALS_CSV_COLUMNS, &day_totals(&summary_rows(&weeks)))
         .map_err(ApiError::internal)?;
     Ok(csv_response(
@@ -1156,7 +1158,7 @@ async fn plan_changes(
         })?;
     let before: Vec<SnapshotRow> =
         serde_json::from_str(&before_json).map_err(ApiError::internal)?;
-    let (_, weeks) = compute(&state, team, &q, span, None).await?;
+    let (_, weeks) = compute(&state, team, &q, span, None, false).await?;
     save_snapshot(&state, team_id, version, span, &weeks).await;
     let after = snapshot_rows(&weeks);
     let input_changes = audit::changes(&state.db.read, team_id, c.since_version, 500).await?;
@@ -1199,7 +1201,7 @@ async fn athlete_plan(
         Err(key) => key,
     };
     let zone = team.tz();
-    let (data, weeks) = compute(&state, team, &q, span, Some(athlete_id)).await?;
+    let (data, weeks) = compute(&state, team, &q, span, Some(athlete_id), true).await?;
     let Some(plan) = athlete_plans(
         &state,
         &data,

@@ -219,6 +219,17 @@ pub struct WeekInput {
     /// series and estimates (default false: the summary only).
     #[serde(default)]
     pub include_session_fuel: bool,
+    /// Write each planned day's explanations (why each number, with its
+    /// source); default true. False leaves `explanations` empty and every
+    /// number as it is, for callers that read only the figures (a squad
+    /// summary, a CSV sheet).
+    #[serde(default = "explain_by_default")]
+    #[schema(default = true)]
+    pub explain_days: bool,
+}
+
+fn explain_by_default() -> bool {
+    true
 }
 
 // ---------------------------------------------------------------- validation

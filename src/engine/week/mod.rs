@@ -378,7 +378,11 @@ impl<'a> Planner<'a> {
             // 2-3. Plan, then simulate the day with the plan's intake and the
             //      sessions as they are done.
             // Days before the span are planned only for their intake.
-            let explain = if in_span { Explain::Yes } else { Explain::No };
+            let explain = if in_span && input.explain_days {
+                Explain::Yes
+            } else {
+                Explain::No
+            };
             let plan = self.plan(&day_input, explain)?;
             let run =
                 self.simulate_day(&timeline, date, &plan.eating_occasions, &today, athlete)?;

@@ -170,6 +170,7 @@ fn week(profile: AthleteProfile, sessions: Vec<PlannedSession>) -> WeekInput {
         start_glycogen: None,
         thresholds: WeekThresholds::default(),
         include_session_fuel: false,
+        explain_days: true,
     }
 }
 

@@ -81,6 +81,7 @@ pub(super) fn input(to_offset: i64, sessions: Vec<PlannedSession>) -> WeekInput 
         carry_from: None,
         thresholds: WeekThresholds::default(),
         include_session_fuel: false,
+        explain_days: true,
     }
 }
 
@@ -617,4 +618,32 @@ pub(super) fn input_and_output_are_json() {
     let mut unknown = json;
     unknown["surprise"] = serde_json::json!(1);
     assert!(serde_json::from_value::<WeekInput>(unknown).is_err());
+}
+
+#[test]
+fn a_plan_without_explanations_has_the_same_numbers_and_defaults_to_explained() {
+    use crate::bench::varied_inputs;
+    for input in varied_inputs(8, 1) {
+        let explained = serde_json::to_value(plan_week(&input).unwrap()).unwrap();
+        let mut bare = input.clone();
+        bare.explain_days = false;
+        let mut figures = serde_json::to_value(plan_week(&bare).unwrap()).unwrap();
+        let mut without = explained.clone();
+        for day in without["days"].as_array_mut().unwrap() {
+            assert!(!day["plan"]["explanations"].as_array().unwrap().is_empty());
+            day["plan"]["explanations"] = serde_json::json!([]);
+        }
+        for day in figures["days"].as_array_mut().unwrap() {
+            assert!(day["plan"]["explanations"].as_array().unwrap().is_empty());
+        }
+        assert_eq!(without, figures, "only the explanation texts differ");
+    }
+    // Omitted in JSON input: explained.
+    let mut json = serde_json::to_value(varied_inputs(1, 1).remove(0)).unwrap();
+    json.as_object_mut().unwrap().remove("explain_days");
+    assert!(
+        serde_json::from_value::<WeekInput>(json)
+            .unwrap()
+            .explain_days
+    );
 }
