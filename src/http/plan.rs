@@ -303,14 +303,7 @@ async fn compute(
     only: Option<Uuid>,
     explain_days: bool,
 ) -> Result<(TeamData, Vec<AthleteWeek>)> {
-    if let Some(f) = q.start_glycogen_fraction
-        && !(0.2..=1.0).contains(&f)
-    {
-        return Err(ApiError::field(
-            "start_glycogen_fraction",
-            "must be between 0.2 and 1.0",
-        ));
-    }
+    // `q` was validated by `span_of` (every caller reads the span first).
     let load_span = (
         span.0 - Days::new(LOOK_BEHIND_DAYS),
         span.1 + Days::new(LOOK_AHEAD_DAYS),

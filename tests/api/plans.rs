@@ -489,3 +489,22 @@ async fn plans_of_another_team_are_not_visible() {
         problem(res, 404).await;
     }
 }
+
+#[tokio::test]
+async fn an_out_of_range_start_glycogen_fraction_is_refused_on_every_plan_read() {
+    let app = spawn_app().await;
+    let team = app.team("Range FC").await;
+    let athlete = app.athlete(team, "Rhea Rundle").await;
+    for path in [
+        format!("/v1/teams/{team}/plan/summary?start_glycogen_fraction=1.3"),
+        format!("/v1/teams/{team}/plan?start_glycogen_fraction=0.1"),
+        format!("/v1/teams/{team}/plan/summary.csv?start_glycogen_fraction=1.01"),
+        format!("/v1/athletes/{athlete}/plan?start_glycogen_fraction=2"),
+    ] {
+        let p = problem(app.get(&path, &app.admin).await, 422).await;
+        assert_eq!(
+            p["errors"][0]["field"], "start_glycogen_fraction",
+            "{path}: {p}"
+        );
+    }
+}
