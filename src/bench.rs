@@ -93,6 +93,42 @@ pub fn time_once(inputs: &[WeekInput]) -> f64 {
     start.elapsed().as_secs_f64() * 1000.0
 }
 
+/// The 40-athlete week replanned after one team session moves, single
+/// thread, through [`crate::plan_memo::PlanMemo`] (so with the days before
+/// the change reused): per round the session (the first on the day
+/// `weekday` days after Monday) starts 1 to 30 minutes later than planned,
+/// a time it has not had before. Median ms over `rounds`.
+pub fn incremental_once(weekday: u64, rounds: usize) -> f64 {
+    use chrono::TimeDelta;
+    let mut inputs = squad_inputs(40, 1);
+    let memo = crate::plan_memo::PlanMemo::new(64 * 1024 * 1024);
+    for input in &inputs {
+        std::hint::black_box(memo.plan(input).expect("synthetic inputs are valid"));
+    }
+    let date = bench_monday() + Days::new(weekday);
+    let k = inputs[0]
+        .sessions
+        .iter()
+        .enumerate()
+        .filter(|(_, s)| s.date == date)
+        .min_by_key(|(_, s)| s.start_time)
+        .map(|(k, _)| k)
+        .expect("a session on the day");
+    let planned = inputs[0].sessions[k].start_time;
+    let mut samples = Vec::new();
+    for round in 0..rounds.max(1) {
+        for input in inputs.iter_mut() {
+            input.sessions[k].start_time = planned + TimeDelta::minutes(round as i64 % 30 + 1);
+        }
+        let start = Instant::now();
+        for input in &inputs {
+            std::hint::black_box(memo.plan(input).expect("synthetic inputs are valid"));
+        }
+        samples.push(start.elapsed().as_secs_f64() * 1000.0);
+    }
+    median(samples)
+}
+
 /// The median of some timings (ms).
 pub fn median(mut values: Vec<f64>) -> f64 {
     values.sort_by(f64::total_cmp);
@@ -158,6 +194,8 @@ pub async fn run(sizes: &[usize], weeks: &[u64], rounds: usize) -> Result<(), St
         ms * 1000.0 / (n as f64 * days as f64)
     };
     let api = api_rounds(rounds.max(5)).await?;
+    let monday_change = incremental_once(0, rounds.max(5));
+    let thursday_change = incremental_once(3, rounds.max(5));
 
     println!("glycoweek bench: medians of {rounds} interleaved rounds (engine on one thread)");
     println!();
@@ -171,6 +209,9 @@ pub async fn run(sizes: &[usize], weeks: &[u64], rounds: usize) -> Result<(), St
         "| 160 athletes x 12 weeks (engine, 1 thread) | {:.1} ms |",
         cell(160, 12)
     );
+    println!(
+        "| 40-athlete week replanned after one team session moves, days before it reused (engine, 1 thread; Monday / Thursday session) | {monday_change:.1} / {thursday_change:.1} ms |"
+    );
     let costs: Vec<f64> = sizes
         .iter()
         .flat_map(|&n| weeks.iter().map(move |&w| (n, w)))
@@ -181,18 +222,7 @@ pub async fn run(sizes: &[usize], weeks: &[u64], rounds: usize) -> Result<(), St
         costs.iter().copied().fold(f64::INFINITY, f64::min),
         costs.iter().copied().fold(0.0, f64::max)
     );
-    for (label, figures) in &api {
-        println!(
-            "| first API read of a 40-athlete week after one session changes ({label}) | {:.1} ms |",
-            figures.first_read_ms
-        );
-    }
-    if let Some((_, figures)) = api.first() {
-        println!(
-            "| the same read again (cached; body {} bytes) | {:.2} ms |",
-            figures.body_bytes, figures.cached_read_ms
-        );
-    }
+    print_api(&api);
     println!();
     println!(
         "Engine time to plan a squad (single thread, median), ms; in brackets us per simulated athlete-day"
@@ -219,6 +249,33 @@ pub async fn run(sizes: &[usize], weeks: &[u64], rounds: usize) -> Result<(), St
     Ok(())
 }
 
+/// `glycoweek bench --api-only`: the API rows alone.
+pub async fn run_api(rounds: usize) -> Result<(), String> {
+    let api = api_rounds(rounds.max(5)).await?;
+    print_api(&api);
+    println!(
+        "| 40-athlete week replanned after one team session moves (engine, 1 thread; Monday / Thursday session) | {:.1} / {:.1} ms |",
+        incremental_once(0, rounds.max(5)),
+        incremental_once(3, rounds.max(5))
+    );
+    Ok(())
+}
+
+fn print_api(api: &[(&'static str, ApiFigures)]) {
+    for (label, figures) in api {
+        println!(
+            "| first API read of a 40-athlete week after one session changes ({label}) | {:.1} ms |",
+            figures.first_read_ms
+        );
+    }
+    if let Some((_, figures)) = api.first() {
+        println!(
+            "| the same read again (cached; body {} bytes) | {:.2} ms |",
+            figures.body_bytes, figures.cached_read_ms
+        );
+    }
+}
+
 /// Medians of the API rounds for one kind of change.
 pub struct ApiFigures {
     pub first_read_ms: f64,
@@ -228,7 +285,9 @@ pub struct ApiFigures {
 
 /// The service in-process (router and middleware, no socket) on a temporary
 /// database with a 40-athlete squad and three weeks of the senior week: per
-/// round, one session's start moves by 30 minutes (`PATCH`), then the squad
+/// round, one session's start moves to a time it has not had before
+/// (`PATCH`; 1 to 30 minutes later than planned, so no plan is reused
+/// whole from an earlier round), then the squad
 /// summary of the week is read twice, timing the first (uncached) read and
 /// the second (cached) one. One set of rounds moves Monday's first session,
 /// one Thursday's.
@@ -287,6 +346,7 @@ pub async fn api_rounds(rounds: usize) -> Result<Vec<(&'static str, ApiFigures)>
     .map_err(|e| err(&e))?
     .secret;
     let state = crate::AppState::new(db.clone(), crate::Config::for_database(db_path.clone()));
+    let memo = state.plan_memo.clone();
     let app = crate::build_app(state);
     let summary = format!(
         "/v1/teams/{}/plan/summary?from={monday}&to={}",
@@ -328,7 +388,7 @@ pub async fn api_rounds(rounds: usize) -> Result<Vec<(&'static str, ApiFigures)>
         let (mut first, mut cached, mut bytes) = (Vec::new(), Vec::new(), 0);
         // One warm-up round, then the timed rounds.
         for round in 0..=rounds {
-            let minutes = if round % 2 == 0 { 30 } else { 0 };
+            let minutes = (round % 30) as i64 + 1;
             let start = session.start_time + chrono::Duration::minutes(minutes);
             let patch = format!("{{\"start_time\":\"{}\"}}", start.format("%H:%M"));
             let (status, body) =
@@ -357,6 +417,10 @@ pub async fn api_rounds(rounds: usize) -> Result<Vec<(&'static str, ApiFigures)>
                 bytes = body.len();
             }
         }
+        let (kept, kept_bytes, reused, computed) = memo.day_stats();
+        eprintln!(
+            "bench: after {label}: {kept} days kept ({kept_bytes} bytes), {reused} reused, {computed} computed"
+        );
         out.push((
             label,
             ApiFigures {

@@ -58,6 +58,9 @@ enum Command {
         /// Interleaved rounds; the figures are medians.
         #[arg(long, default_value_t = 5)]
         repeats: usize,
+        /// Only the API rows (the first read after a change), e.g. to profile them.
+        #[arg(long)]
+        api_only: bool,
     },
     /// Write a consistent copy of a live database.
     Backup {
@@ -111,6 +114,7 @@ async fn main() -> ExitCode {
             athletes,
             weeks,
             repeats,
+            api_only,
         }) => {
             if athletes.iter().any(|&n| n == 0 || n > 1000)
                 || weeks.iter().any(|&w| w == 0 || w > 16)
@@ -120,7 +124,15 @@ async fn main() -> ExitCode {
                     ExitCode::FAILURE
                 };
             }
-            glycoweek::bench::run(&athletes, &weeks, repeats).await
+            // RUST_LOG=glycoweek=debug shows where each request's time goes.
+            if std::env::var_os("RUST_LOG").is_some() {
+                init_tracing(LogFormat::Text);
+            }
+            if api_only {
+                glycoweek::bench::run_api(repeats).await
+            } else {
+                glycoweek::bench::run(&athletes, &weeks, repeats).await
+            }
         }
     };
     match result {

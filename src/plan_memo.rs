@@ -1,161 +1,251 @@
-//! Per-athlete memo of week plans, keyed by the athlete's whole engine input
-//! ([`WeekInput`]): a change to one session, pin or body-mass reading
-//! changes the input of the athletes it reaches only, so the next plan
-//! recomputes those athletes and reuses the others' plans. A change that
-//! reaches no athlete's input (a session's notes, say) recomputes nothing.
+//! Memo of week plans, at two levels, both bounded by bytes:
 //!
-//! The key is the input's JSON; an entry is used only when the stored JSON
-//! equals the new one byte for byte, so a reused plan is exactly what the
-//! engine would compute (the engine is deterministic). Plans are shared
-//! (`Arc`), never copied out. The memo is bounded by bytes: each entry
-//! counts its input's JSON and an estimate of its plan's serialised size
-//! (everything but the days and the glycogen series exactly, then sampled
-//! days and points: writing the whole plan just to weigh it cost about a
-//! tenth of the service's time under edits). The least recently used
+//! - **Whole plans**, per athlete, keyed by the athlete's whole engine input
+//!   ([`WeekInput`]): a change to one session, pin or body-mass reading
+//!   changes the input of the athletes it reaches only, so the next plan
+//!   reuses the others' plans as they are. A change that reaches no
+//!   athlete's input (a session's notes, say) recomputes nothing. The key is
+//!   the input's JSON; an entry is used only when the stored JSON equals the
+//!   new one byte for byte. Plans are shared (`Arc`), never copied out.
+//! - **Simulated days and session forecasts** ([`DayReuse`]): an athlete
+//!   whose input changed is planned with
+//!   [`crate::engine::week::plan_week_reusing`], which takes each day whose
+//!   inputs and carried-in glycogen state are unchanged from here, so a
+//!   session moved on Thursday recomputes the days from the first one that
+//!   reads it (Tuesday, whose look-ahead sees Thursday) and reuses the days
+//!   before. A team session reaches every athlete, and this is what keeps
+//!   its cost to the days it reaches.
+//!
+//! Reused results are exactly what the engine would compute (it is
+//! deterministic; a randomised test of edit sequences compares them with a
+//! full recompute). Each whole plan is weighed by an estimate of its
+//! serialised size (everything but the days and the glycogen series
+//! exactly, then sampled days and points: writing the whole plan just to
+//! weigh it cost about a tenth of the service's time under edits); each day
+//! by an estimate from one measured day of its plan. The least recently used
 //! entries go first.
 
 use std::collections::HashMap;
-use std::hash::{Hash, Hasher};
+use std::hash::Hash;
 use std::sync::{Arc, Mutex};
 
-use crate::engine::InvalidInput;
-use crate::engine::week::{WeekInput, WeekPlan, plan_week};
+use crate::engine::day::session_work::SessionWork;
+use crate::engine::glycogen::balance::GlycogenModel;
+use crate::engine::week::reuse::{DayKey, DayOutcome, DayReuse};
+use crate::engine::week::{DayKeys, WeekInput, WeekPlan, plan_week, plan_week_reusing};
+use crate::engine::{ByteCounter, InvalidInput};
 
-pub struct PlanMemo {
+/// Entries bounded by their total weight, least recently used out first.
+/// Eviction drops the oldest tenth of the budget at once, so a full store
+/// does not scan its entries on every insert.
+struct Lru<K, V> {
     max_bytes: usize,
-    inner: Mutex<Inner>,
-}
-
-#[derive(Default)]
-struct Inner {
-    entries: HashMap<u64, Entry>,
+    entries: HashMap<K, (V, usize, u64)>,
     bytes: usize,
     clock: u64,
     hits: u64,
     misses: u64,
 }
 
-struct Entry {
-    input: Vec<u8>,
-    plan: Arc<WeekPlan>,
-    bytes: usize,
-    used: u64,
+impl<K: Hash + Eq + Clone, V: Clone> Lru<K, V> {
+    fn new(max_bytes: usize) -> Self {
+        Self {
+            max_bytes,
+            entries: HashMap::new(),
+            bytes: 0,
+            clock: 0,
+            hits: 0,
+            misses: 0,
+        }
+    }
+
+    fn get(&mut self, key: &K) -> Option<V> {
+        self.clock += 1;
+        let now = self.clock;
+        let Some((value, _, used)) = self.entries.get_mut(key) else {
+            self.misses += 1;
+            return None;
+        };
+        *used = now;
+        self.hits += 1;
+        Some(value.clone())
+    }
+
+    fn insert(&mut self, key: K, value: V, bytes: usize) {
+        if bytes > self.max_bytes {
+            return;
+        }
+        self.clock += 1;
+        if let Some((_, old, _)) = self.entries.insert(key, (value, bytes, self.clock)) {
+            self.bytes -= old;
+        }
+        self.bytes += bytes;
+        if self.bytes > self.max_bytes {
+            let target = self.max_bytes - self.max_bytes / 10;
+            let mut by_age: Vec<(u64, K)> = self
+                .entries
+                .iter()
+                .map(|(key, (_, _, used))| (*used, key.clone()))
+                .collect();
+            by_age.sort_unstable_by_key(|(used, _)| *used);
+            for (_, key) in by_age {
+                if self.bytes <= target {
+                    break;
+                }
+                if let Some((_, weight, _)) = self.entries.remove(&key) {
+                    self.bytes -= weight;
+                }
+            }
+        }
+    }
 }
 
-/// Counts bytes without storing them.
-struct Counter(usize);
+pub struct PlanMemo {
+    enabled: bool,
+    inner: Mutex<Inner>,
+    days: Mutex<Lru<DayKey, Arc<DayOutcome>>>,
+    forecasts: Mutex<Lru<DayKey, SessionWork>>,
+    /// Serialised size of a shown day, without and with explanation texts:
+    /// (days weighed, running mean of the sampled ones).
+    day_weight: Mutex<[(u64, usize); 2]>,
+}
 
-impl std::io::Write for Counter {
-    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
-        self.0 += buf.len();
-        Ok(buf.len())
-    }
-    fn flush(&mut self) -> std::io::Result<()> {
-        Ok(())
-    }
+struct Inner {
+    plans: Lru<DayKey, Arc<WeekPlan>>,
+    hits: u64,
+    misses: u64,
 }
 
 /// The serialised size of a plan, estimated: the plan without its days and
-/// glycogen series exactly, each day as the mean of the first and last day,
-/// and each series point as the first.
-fn estimated_json_bytes(plan: &mut WeekPlan) -> Option<usize> {
+/// glycogen series exactly, each day as the mean of the first and last day
+/// (or `day_mean`, a mean of sampled days like these), and each series
+/// point as the first.
+fn estimated_json_bytes(plan: &mut WeekPlan, day_mean: Option<usize>) -> Option<usize> {
     let days = std::mem::take(&mut plan.days);
     let series = std::mem::take(&mut plan.glycogen_series);
-    let mut rest = Counter(0);
+    let mut rest = ByteCounter(0);
     let rest_ok = serde_json::to_writer(&mut rest, &*plan).is_ok();
     plan.days = days;
     plan.glycogen_series = series;
-    let mut ends = Counter(0);
-    for day in [plan.days.first(), plan.days.last()].into_iter().flatten() {
-        serde_json::to_writer(&mut ends, day).ok()?;
+    let mut ends = ByteCounter(0);
+    match day_mean {
+        Some(mean) => ends.0 = 2 * mean,
+        None => {
+            for day in [plan.days.first(), plan.days.last()].into_iter().flatten() {
+                serde_json::to_writer(&mut ends, day).ok()?;
+            }
+        }
     }
-    let mut point = Counter(1);
+    let mut point = ByteCounter(1);
     if let Some(first) = plan.glycogen_series.first() {
         serde_json::to_writer(&mut point, first).ok()?;
     }
     rest_ok.then(|| rest.0 + ends.0 * plan.days.len() / 2 + point.0 * plan.glycogen_series.len())
 }
 
+fn lock<T>(mutex: &Mutex<T>) -> std::sync::MutexGuard<'_, T> {
+    mutex.lock().unwrap_or_else(|p| p.into_inner())
+}
+
 impl PlanMemo {
-    /// A memo of at most `max_bytes`; 0 keeps nothing.
+    /// A memo of at most `max_bytes` in all (half for whole plans, half for
+    /// days and forecasts); 0 keeps nothing.
     pub fn new(max_bytes: usize) -> Self {
+        let half = max_bytes / 2;
         Self {
-            max_bytes,
-            inner: Mutex::default(),
+            enabled: max_bytes > 0,
+            inner: Mutex::new(Inner {
+                plans: Lru::new(half),
+                hits: 0,
+                misses: 0,
+            }),
+            days: Mutex::new(Lru::new(half - half / 8)),
+            forecasts: Mutex::new(Lru::new(half / 8)),
+            day_weight: Mutex::new([(0, 0); 2]),
         }
     }
 
     /// The plan of `input`: the stored one when this exact input was planned
-    /// before, else computed (and stored).
+    /// before, else computed from the days that changed (and stored).
     pub fn plan(&self, input: &WeekInput) -> Result<Arc<WeekPlan>, InvalidInput> {
-        if self.max_bytes == 0 {
+        if !self.enabled {
             return plan_week(input).map(Arc::new);
         }
-        let Ok(key_bytes) = serde_json::to_vec(input) else {
-            return plan_week(input).map(Arc::new);
-        };
-        let mut hasher = std::collections::hash_map::DefaultHasher::new();
-        key_bytes.hash(&mut hasher);
-        let key = hasher.finish();
+        let keys = DayKeys::new(input, &GlycogenModel::default());
+        let key = keys.input_key(input);
         {
-            let mut inner = self.inner.lock().unwrap_or_else(|p| p.into_inner());
-            inner.clock += 1;
-            let now = inner.clock;
-            if let Some(entry) = inner.entries.get_mut(&key)
-                && entry.input == key_bytes
-            {
-                entry.used = now;
-                let plan = entry.plan.clone();
+            let mut inner = lock(&self.inner);
+            if let Some(plan) = inner.plans.get(&key) {
                 inner.hits += 1;
                 return Ok(plan);
             }
             inner.misses += 1;
         }
-        let mut plan = plan_week(input)?;
-        let Some(plan_bytes) = estimated_json_bytes(&mut plan) else {
+        let mut plan = plan_week_reusing(input, keys, self)?;
+        let day_mean = {
+            let weights = lock(&self.day_weight);
+            let (weighed, mean) = weights[usize::from(input.explain_days)];
+            (weighed >= 32).then_some(mean)
+        };
+        let Some(bytes) = estimated_json_bytes(&mut plan, day_mean) else {
             return Ok(Arc::new(plan));
         };
-        let bytes = key_bytes.len() + plan_bytes;
-        if bytes > self.max_bytes {
-            return Ok(Arc::new(plan));
-        }
         let plan = Arc::new(plan);
-        let stored = plan.clone();
-        let mut inner = self.inner.lock().unwrap_or_else(|p| p.into_inner());
-        inner.clock += 1;
-        let used = inner.clock;
-        if let Some(old) = inner.entries.insert(
-            key,
-            Entry {
-                input: key_bytes,
-                plan: stored,
-                bytes,
-                used,
-            },
-        ) {
-            inner.bytes -= old.bytes;
-        }
-        inner.bytes += bytes;
-        while inner.bytes > self.max_bytes {
-            let Some(oldest) = inner
-                .entries
-                .iter()
-                .min_by_key(|(_, e)| e.used)
-                .map(|(k, _)| *k)
-            else {
-                break;
-            };
-            if let Some(evicted) = inner.entries.remove(&oldest) {
-                inner.bytes -= evicted.bytes;
-            }
-        }
+        lock(&self.inner)
+            .plans
+            .insert(key, plan.clone(), bytes + 64);
         Ok(plan)
     }
 
-    /// Bytes held, plans reused and plans computed so far.
+    /// Bytes held (plans and days), plans reused and plans computed so far.
     pub fn stats(&self) -> (usize, u64, u64) {
-        let inner = self.inner.lock().unwrap_or_else(|p| p.into_inner());
-        (inner.bytes, inner.hits, inner.misses)
+        let inner = lock(&self.inner);
+        let bytes = inner.plans.bytes + lock(&self.days).bytes + lock(&self.forecasts).bytes;
+        (bytes, inner.hits, inner.misses)
+    }
+
+    /// Days kept, their weight, days reused and days computed so far.
+    pub fn day_stats(&self) -> (usize, usize, u64, u64) {
+        let days = lock(&self.days);
+        (days.entries.len(), days.bytes, days.hits, days.misses)
+    }
+}
+
+impl DayReuse for PlanMemo {
+    fn day(&self, key: &DayKey) -> Option<Arc<DayOutcome>> {
+        lock(&self.days).get(key)
+    }
+
+    fn keep_day(&self, key: DayKey, outcome: Arc<DayOutcome>) {
+        // Shown days are weighed by a running mean of sampled days' JSON
+        // (one in 32): writing every day just to weigh it costs as much as
+        // a good part of planning it.
+        let day_bytes = match outcome.shown_day() {
+            None => 0,
+            Some(day) => {
+                let mut weights = lock(&self.day_weight);
+                let weight = &mut weights[usize::from(!day.plan.explanations.is_empty())];
+                if weight.0 % 32 == 0 {
+                    let mut counter = ByteCounter(0);
+                    let _ = serde_json::to_writer(&mut counter, day);
+                    let n = (weight.0 / 32 + 1).min(64);
+                    weight.1 = (weight.1 * (n as usize - 1) + counter.0) / n as usize;
+                }
+                weight.0 += 1;
+                weight.1
+            }
+        };
+        let bytes = outcome.estimated_bytes(day_bytes) + 64;
+        lock(&self.days).insert(key, outcome, bytes);
+    }
+
+    fn forecast(&self, key: &DayKey) -> Option<SessionWork> {
+        lock(&self.forecasts).get(key)
+    }
+
+    fn keep_forecast(&self, key: DayKey, work: SessionWork) {
+        let bytes = 256 + work.title.len();
+        lock(&self.forecasts).insert(key, work, bytes);
     }
 }
 
@@ -257,7 +347,38 @@ mod tests {
                 hits > 0 && misses > 0,
                 "both paths ran: {hits} hits, {misses} misses"
             );
+            let (_, _, days_reused, days_computed) = memo.day_stats();
+            assert!(
+                days_reused > 0 && days_computed > 0,
+                "days were reused too: {days_reused} reused, {days_computed} computed"
+            );
         }
+    }
+
+    #[test]
+    fn a_session_moved_on_thursday_reuses_the_days_before_tuesday() {
+        // One athlete, one week and its carry-over week: 14 simulated days.
+        let mut inputs = crate::bench::squad_inputs(1, 1);
+        let memo = PlanMemo::new(64 * 1024 * 1024);
+        memo.plan(&inputs[0]).expect("valid");
+        let (_, _, hits, misses) = memo.day_stats();
+        assert_eq!((hits, misses), (0, 14));
+        let thursday = inputs[0].from + TimeDelta::days(3);
+        let k = inputs[0]
+            .sessions
+            .iter()
+            .position(|s| s.date == thursday)
+            .expect("a Thursday session");
+        inputs[0].sessions[k].start_time += TimeDelta::minutes(10);
+        let incremental = memo.plan(&inputs[0]).expect("valid");
+        assert_eq!(
+            json(&incremental),
+            json(&plan_week(&inputs[0]).expect("valid"))
+        );
+        let (_, _, hits, misses) = memo.day_stats();
+        // The carry-over week and Monday read nothing of Thursday; Tuesday
+        // looks two days ahead.
+        assert!(hits >= 8, "{hits} days reused, {misses} computed");
     }
 
     #[test]
@@ -266,7 +387,7 @@ mod tests {
         for input in varied_inputs(8, 2) {
             let mut plan = plan_week(&input).expect("valid");
             let real = json(&plan).len() as f64;
-            let estimate = estimated_json_bytes(&mut plan).expect("estimate") as f64;
+            let estimate = estimated_json_bytes(&mut plan, None).expect("estimate") as f64;
             assert!(
                 (estimate / real - 1.0).abs() < 0.15,
                 "estimate {estimate} vs {real} bytes"

@@ -103,3 +103,17 @@ impl Issues {
         }
     }
 }
+
+/// Counts the bytes written to it without storing them (to weigh a
+/// serialised value).
+pub struct ByteCounter(pub usize);
+
+impl std::io::Write for ByteCounter {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        self.0 += buf.len();
+        Ok(buf.len())
+    }
+    fn flush(&mut self) -> std::io::Result<()> {
+        Ok(())
+    }
+}

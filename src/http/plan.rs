@@ -308,9 +308,11 @@ async fn compute(
         span.0 - Days::new(LOOK_BEHIND_DAYS),
         span.1 + Days::new(LOOK_AHEAD_DAYS),
     );
+    let started = std::time::Instant::now();
     let settings = planning::plan_settings(&state.db, team.id).await?;
     let pins = planning::pins_for_team(&state.db, team.id, load_span).await?;
     let data = TeamData::load(&state.db, team, load_span).await?;
+    let loaded = started.elapsed();
     let options = PlanOptions {
         span,
         settings,
@@ -329,12 +331,21 @@ async fn compute(
             .filter(|a| only.is_none_or(|id| a.id == id))
             .cloned()
             .collect();
+        let planning = std::time::Instant::now();
         let weeks = planner::plan_athletes_with(&data, &pins, &athletes, &options, Some(&memo));
-        (data, weeks)
+        (data, weeks, planning.elapsed())
     })
     .await
     .map_err(ApiError::internal)?;
-    Ok(result)
+    let (data, weeks, planned) = result;
+    tracing::debug!(
+        load_ms = loaded.as_secs_f64() * 1000.0,
+        plan_ms = planned.as_secs_f64() * 1000.0,
+        total_ms = started.elapsed().as_secs_f64() * 1000.0,
+        athletes = weeks.len(),
+        "plans computed"
+    );
+    Ok((data, weeks))
 }
 
 /// One athlete's week in a squad plan.
@@ -597,18 +608,34 @@ async fn save_snapshot(
     span: (NaiveDate, NaiveDate),
     weeks: &[AthleteWeek],
 ) {
+    let _ = snapshot_saver(state, team_id, version, span, weeks).await;
+}
+
+/// Stores the plan's "what changed" snapshot in a task of its own, so the
+/// database work runs while the caller writes its response; await the
+/// handle before answering, so a snapshot exists once the plan is seen.
+fn snapshot_saver(
+    state: &AppState,
+    team_id: Uuid,
+    version: i64,
+    span: (NaiveDate, NaiveDate),
+    weeks: &[AthleteWeek],
+) -> tokio::task::JoinHandle<()> {
+    let rows = serde_json::to_string(&snapshot_rows(weeks)).unwrap_or_default();
+    let db = state.db.clone();
     // A snapshot is a convenience for "what changed"; failing to store one
     // (read-only disk, busy writer) must not fail the plan itself.
-    match plans::has_snapshot(&state.db, team_id, version, span).await {
-        Ok(true) => {}
-        Ok(false) => {
-            let rows = serde_json::to_string(&snapshot_rows(weeks)).unwrap_or_default();
-            if let Err(e) = plans::save_snapshot(&state.db, team_id, version, span, &rows).await {
-                tracing::warn!(error = %e, "could not store a plan snapshot");
+    tokio::spawn(async move {
+        match plans::has_snapshot(&db, team_id, version, span).await {
+            Ok(true) => {}
+            Ok(false) => {
+                if let Err(e) = plans::save_snapshot(&db, team_id, version, span, &rows).await {
+                    tracing::warn!(error = %e, "could not store a plan snapshot");
+                }
             }
+            Err(e) => tracing::warn!(error = %e, "could not read plan snapshots"),
         }
-        Err(e) => tracing::warn!(error = %e, "could not read plan snapshots"),
-    }
+    })
 }
 
 /// The compact squad summary for overview screens.
@@ -711,7 +738,8 @@ async fn team_summary(
     };
     let zone = team.tz();
     let (_, weeks) = compute(&state, team, &q, span, None, false).await?;
-    save_snapshot(&state, team_id, version, span, &weeks).await;
+    let started = std::time::Instant::now();
+    let saving = snapshot_saver(&state, team_id, version, span, &weeks);
     let rows = summary_rows(&weeks);
     let body = TeamSummary {
         team_id,
@@ -729,7 +757,15 @@ async fn team_summary(
         athlete_warnings: athlete_warnings(&weeks),
         cautions: planner::general_cautions(),
     };
-    store_and_respond(&state, &headers, &etag, &zone, &body)
+    let response = store_and_respond(&state, &headers, &etag, &zone, &body);
+    let written = started.elapsed();
+    let _ = saving.await;
+    tracing::debug!(
+        body_ms = written.as_secs_f64() * 1000.0,
+        with_snapshot_ms = started.elapsed().as_secs_f64() * 1000.0,
+        "summary written"
+    );
+    response
 }
 
 /// The summary's columns, in order: exactly the fields of [`SummaryRow`]

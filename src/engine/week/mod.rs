@@ -17,14 +17,14 @@
 //!
 //! ## Order of work for each day
 //!
-//! 1. **Forecast** today's sessions with
-//!    [`crate::engine::physiology::session::simulate_session_for`], chaining
-//!    them from the glycogen state at midnight (no intake counted yet).
-//!    Sessions tomorrow and the day after (look-ahead for the day planner) are
-//!    forecast from normal full stores: that is the state the plan aims to
-//!    deliver, and forecasting them from depleted stores would lower their
-//!    carbohydrate demand and so, perversely, today's target. Yesterday's
-//!    sessions are passed as they were simulated.
+//! 1. **Forecast** the sessions of today, tomorrow and the day after (the
+//!    day planner's look-ahead) with
+//!    [`crate::engine::physiology::session::simulate_session_for`], each as
+//!    prepared for (the whole match for a selected player) and from normal
+//!    full stores: that is the state the plan aims to deliver, and
+//!    forecasting from depleted stores would lower their carbohydrate demand
+//!    and so, perversely, the target. Yesterday's sessions are passed as
+//!    they were simulated.
 //! 2. **Plan the day** with [`crate::engine::day::plan::plan_day`] (settings, pins and health flags
 //!    passed through): targets and eating occasions.
 //! 3. **Simulate the day** in steps of at most 15 minutes, split at every
@@ -34,10 +34,16 @@
 //!    reached by then (so intake before it counts, and low stores shift the
 //!    fuel mix toward fat from the first minute, [`crate::engine::physiology::fuel_mix`]), and its
 //!    muscle and liver use is drawn evenly over its clock time.
-//! 4. If a session's simulated carbohydrate differs from the forecast by more
-//!    than 5% (and 2 g), the day is planned again with the simulated sessions
-//!    and simulated again, once. The day's targets therefore rest on session
-//!    figures within a few percent of the ones reported.
+//! 4. Keep what the day leaves: the state at midnight, the sessions as
+//!    simulated (the next day's planner reads them as yesterday's), the day
+//!    as shown. The day's own targets rest on the forecasts of step 1, never
+//!    on the simulation, so a day is planned once.
+//!
+//! Steps 1-4 of one day read only the inputs of that day and its neighbours
+//! and the state carried in, so [`plan_week_reusing`] can take a day
+//! computed for an earlier plan whose day read exactly the same
+//! ([`reuse`]): a change then costs the days it reaches, through the
+//! look-ahead before it and the carried glycogen after it.
 //!
 //! The start state, unless given, is normal full stores (muscle and liver) at
 //! midnight before the first day, as after a rest day with normal eating.
@@ -93,11 +99,14 @@ pub const MAX_CLOCK_MINUTES: f64 = 720.0;
 
 mod input;
 mod output;
+pub mod reuse;
 mod simulate;
 mod warnings;
 
 pub use input::*;
 pub use output::*;
+use reuse::StoredTimeline;
+pub use reuse::{DayKeys, DayOutcome, DayReuse};
 use simulate::Timeline;
 
 // ---------------------------------------------------------------- planning
@@ -119,6 +128,23 @@ pub fn plan_week_with_model(
     planner.run()
 }
 
+/// [`plan_week`] reusing the simulated days (and session forecasts) that
+/// `reuse` kept from earlier plans whose days read exactly the same inputs
+/// and carried-in state ([`reuse`]), and offering it the days computed now.
+/// The plan is the one [`plan_week`] returns, bit for bit.
+/// `keys`: [`DayKeys::new`] of this input with the default model.
+pub fn plan_week_reusing(
+    input: &WeekInput,
+    keys: DayKeys,
+    reuse: &dyn DayReuse,
+) -> Result<WeekPlan, InvalidInput> {
+    let first_athlete = validate(input)?;
+    let mut planner = Planner::new(input, first_athlete)?;
+    planner.keys = Some(keys);
+    planner.reuse = Some(reuse);
+    planner.run()
+}
+
 /// Sessions and state shared by the day loop.
 struct Planner<'a> {
     input: &'a WeekInput,
@@ -134,6 +160,9 @@ struct Planner<'a> {
     full_forecast: Vec<Option<SessionWork>>,
     /// Each simulated session: its work as the day planner reads it.
     simulated_work: Vec<Option<SessionWork>>,
+    /// Days and forecasts kept from earlier plans, with this plan's keys.
+    reuse: Option<&'a dyn DayReuse>,
+    keys: Option<DayKeys>,
 }
 
 impl<'a> Planner<'a> {
@@ -159,6 +188,8 @@ impl<'a> Planner<'a> {
             athletes: vec![first],
             full_forecast: vec![None; input.sessions.len()],
             simulated_work: vec![None; input.sessions.len()],
+            reuse: None,
+            keys: None,
         })
     }
 
@@ -294,12 +325,29 @@ impl<'a> Planner<'a> {
         let mut works = Vec::with_capacity(indices.len());
         for index in indices {
             if self.full_forecast[index].is_none() {
-                let fuel = self.simulate_prepared(athlete, index)?;
-                let mut work = self.work(index, &fuel);
-                // Prepared for the whole session: timed by the whole clock too.
-                if self.input.sessions[index].prepared_segments.is_some() {
-                    work.clock_minutes = None;
-                }
+                let key = self
+                    .keys
+                    .as_ref()
+                    .map(|keys| keys.forecast_key(index, self.athletes[athlete].body_mass_kg));
+                let kept = match (key, self.reuse) {
+                    (Some(key), Some(reuse)) => reuse.forecast(&key),
+                    _ => None,
+                };
+                let work = match kept {
+                    Some(work) => work,
+                    None => {
+                        let fuel = self.simulate_prepared(athlete, index)?;
+                        let mut work = self.work(index, &fuel);
+                        // Prepared for the whole session: timed by the whole clock too.
+                        if self.input.sessions[index].prepared_segments.is_some() {
+                            work.clock_minutes = None;
+                        }
+                        if let (Some(key), Some(reuse)) = (key, self.reuse) {
+                            reuse.keep_forecast(key, work.clone());
+                        }
+                        work
+                    }
+                };
                 self.full_forecast[index] = Some(work);
             }
             works.extend(self.full_forecast[index].clone());
@@ -336,58 +384,32 @@ impl<'a> Planner<'a> {
 
         for date in first_day.iter_days().take(simulated as usize) {
             let in_span = date >= input.from;
-            let athlete = self.athlete_on(date)?;
-            let capacity = self.athletes[athlete].glycogen_capacity;
-            // A lower body mass lowers capacity; stores cannot exceed it.
-            timeline.stores.muscle_g = timeline.stores.muscle_g.min(capacity.muscle_g);
-            timeline.stores.liver_g = timeline.stores.liver_g.min(capacity.liver_g);
-            let at_start = GlycogenLevel::of(&timeline.stores, &capacity);
-            if date == input.from {
-                start_assumption = Some(self.start_assumption(first_day, at_start));
-            }
             let today = self.sessions_on(date);
-
-            // 1. The day's demand: its sessions as prepared for, from normal
-            //    stores (the work's demand, not the state's), the next two
-            //    days the same way, and yesterday as it was simulated.
-            let forecast = self.full_forecasts(date)?;
-            let next_day = self.full_forecasts(date + TimeDelta::days(1))?;
-            let day_after_next = self.full_forecasts(date + TimeDelta::days(2))?;
-            let previous_date = date - TimeDelta::days(1);
-            let previous_day = if previous_date < first_day {
-                self.full_forecasts(previous_date)?
-            } else {
-                self.sessions_on(previous_date)
-                    .into_iter()
-                    .filter_map(|index| self.simulated_work[index].clone())
-                    .collect()
+            let key = self
+                .keys
+                .as_ref()
+                .map(|keys| keys.key(&self, date, &timeline));
+            let kept = match (key, self.reuse) {
+                (Some(key), Some(reuse)) => reuse.day(&key),
+                _ => None,
             };
-            let day_input = DayInput {
-                profile: self.profile_on(date),
-                date,
-                sessions: forecast,
-                next_day_sessions: next_day,
-                day_after_next_sessions: day_after_next,
-                previous_day_sessions: previous_day,
-                settings: input.settings.clone(),
-                glycogen_to_restore_g: (capacity.muscle_g - timeline.stores.muscle_g).max(0.0),
-                pins: self.pins.get(&date).cloned().unwrap_or_default(),
-                health_flags: input.health_flags.clone(),
+            let outcome = match kept {
+                Some(kept) => DayOutcome::clone(&kept),
+                None => {
+                    let outcome = self.compute_day(date, &timeline, &today)?;
+                    if let (Some(key), Some(reuse)) = (key, self.reuse) {
+                        reuse.keep_day(key, std::sync::Arc::new(outcome.clone()));
+                    }
+                    outcome
+                }
             };
 
-            // 2-3. Plan, then simulate the day with the plan's intake and the
-            //      sessions as they are done.
-            // Days before the span are planned only for their intake.
-            let explain = if in_span && input.explain_days {
-                Explain::Yes
-            } else {
-                Explain::No
-            };
-            let plan = self.plan(&day_input, explain)?;
-            let run =
-                self.simulate_day(&timeline, date, &plan.eating_occasions, &today, athlete)?;
-
-            for (index, level, fuel) in run.starts {
+            let yesterday = self.sessions_on(date - TimeDelta::days(1));
+            if let Some(assumption) = outcome.start_assumption {
+                start_assumption = Some(assumption);
+            }
+            for (place, level, fuel) in outcome.starts {
+                let index = today[place];
                 let session = &input.sessions[index];
                 self.simulated_work[index] = Some(self.work(index, &fuel));
                 session_records[index] = Some(WeekSession {
@@ -405,27 +427,23 @@ impl<'a> Planner<'a> {
                     fuel: input.include_session_fuel.then_some(fuel),
                 });
             }
-            for (index, level) in run.ends {
+            for (from_yesterday, place, level) in outcome.ends {
+                let index = if from_yesterday {
+                    yesterday[place]
+                } else {
+                    today[place]
+                };
                 if let Some(record) = session_records[index].as_mut() {
                     record.glycogen_at_end = level;
                 }
             }
-            timeline = run.timeline;
+            timeline = outcome.timeline.restore(&today);
             if !in_span {
                 continue;
             }
-            series.extend(run.series);
+            series.extend(outcome.series);
             day_sessions.push(today);
-            days.push(WeekDay {
-                date,
-                body_mass_kg: self.mass_on(date),
-                glycogen_capacity: capacity,
-                glycogen_at_start: at_start,
-                glycogen_at_end: GlycogenLevel::of(&timeline.stores, &capacity),
-                glycogen_flows: run.flows,
-                sessions: Vec::new(),
-                plan,
-            });
+            days.extend(outcome.day);
         }
         // A session running past the last midnight ends with the state there.
         if let Some(active) = timeline.active
@@ -464,6 +482,100 @@ impl<'a> Planner<'a> {
             athlete_warnings,
             cautions,
             athlete_estimates: self.athletes[0].estimates.clone(),
+        })
+    }
+
+    /// Plans and simulates `date` from the state carried in at midnight.
+    /// `today`: the day's session indices in start order.
+    fn compute_day(
+        &mut self,
+        date: NaiveDate,
+        carried: &Timeline,
+        today: &[usize],
+    ) -> Result<DayOutcome, InvalidInput> {
+        let input = self.input;
+        let first_day = input.first_simulated_day();
+        let in_span = date >= input.from;
+        let athlete = self.athlete_on(date)?;
+        let capacity = self.athletes[athlete].glycogen_capacity;
+        let mut timeline = carried.clone();
+        // A lower body mass lowers capacity; stores cannot exceed it.
+        timeline.stores.muscle_g = timeline.stores.muscle_g.min(capacity.muscle_g);
+        timeline.stores.liver_g = timeline.stores.liver_g.min(capacity.liver_g);
+        let at_start = GlycogenLevel::of(&timeline.stores, &capacity);
+        let start_assumption =
+            (date == input.from).then(|| self.start_assumption(first_day, at_start));
+
+        // 1. The day's demand: its sessions as prepared for, from normal
+        //    stores (the work's demand, not the state's), the next two
+        //    days the same way, and yesterday as it was simulated.
+        let forecast = self.full_forecasts(date)?;
+        let next_day = self.full_forecasts(date + TimeDelta::days(1))?;
+        let day_after_next = self.full_forecasts(date + TimeDelta::days(2))?;
+        let previous_date = date - TimeDelta::days(1);
+        let yesterday = self.sessions_on(previous_date);
+        let previous_day = if previous_date < first_day {
+            self.full_forecasts(previous_date)?
+        } else {
+            yesterday
+                .iter()
+                .filter_map(|&index| self.simulated_work[index].clone())
+                .collect()
+        };
+        let day_input = DayInput {
+            profile: self.profile_on(date),
+            date,
+            sessions: forecast,
+            next_day_sessions: next_day,
+            day_after_next_sessions: day_after_next,
+            previous_day_sessions: previous_day,
+            settings: input.settings.clone(),
+            glycogen_to_restore_g: (capacity.muscle_g - timeline.stores.muscle_g).max(0.0),
+            pins: self.pins.get(&date).cloned().unwrap_or_default(),
+            health_flags: input.health_flags.clone(),
+        };
+
+        // 2-3. Plan, then simulate the day with the plan's intake and the
+        //      sessions as they are done.
+        // Days before the span are planned only for their intake.
+        let explain = if in_span && input.explain_days {
+            Explain::Yes
+        } else {
+            Explain::No
+        };
+        let plan = self.plan(&day_input, explain)?;
+        let run = self.simulate_day(&timeline, date, &plan.eating_occasions, today, athlete)?;
+        let place = |list: &[usize], index: usize| list.iter().position(|&i| i == index);
+        let starts = run
+            .starts
+            .into_iter()
+            .filter_map(|(index, level, fuel)| Some((place(today, index)?, level, fuel)))
+            .collect();
+        let ends = run
+            .ends
+            .into_iter()
+            .filter_map(|(index, level)| match place(today, index) {
+                Some(k) => Some((false, k, level)),
+                None => place(&yesterday, index).map(|k| (true, k, level)),
+            })
+            .collect();
+        let day = in_span.then(|| WeekDay {
+            date,
+            body_mass_kg: self.mass_on(date),
+            glycogen_capacity: capacity,
+            glycogen_at_start: at_start,
+            glycogen_at_end: GlycogenLevel::of(&run.timeline.stores, &capacity),
+            glycogen_flows: run.flows,
+            sessions: Vec::new(),
+            plan,
+        });
+        Ok(DayOutcome {
+            timeline: StoredTimeline::of(&run.timeline, today),
+            start_assumption,
+            day,
+            series: if in_span { run.series } else { Vec::new() },
+            starts,
+            ends,
         })
     }
 
