@@ -65,8 +65,8 @@ pub struct Config {
     pub board_secure_cookie: bool,
     #[arg(skip)]
     pub plan_cache_mib: usize,
-    /// Memory for per-athlete week plans, MiB (keyed by the athlete's whole
-    /// engine input, so a change recomputes only the athletes it reaches);
+    /// Memory for per-athlete week plans and (in half of it) their simulated
+    /// days, MiB: a change recomputes only the athletes and days it reaches;
     /// 0 turns the memo off.
     #[arg(long = "plan-memo-mib", value_name = "MIB", env = "GLYCOWEEK_PLAN_MEMO_MIB", default_value_t = 16,
           value_parser = clap::value_parser!(u64).range(0..=16384))]
