@@ -225,7 +225,7 @@ impl DayReuse for PlanMemo {
             Some(day) => {
                 let mut weights = lock(&self.day_weight);
                 let weight = &mut weights[usize::from(!day.plan.explanations.is_empty())];
-                if weight.0 % 32 == 0 {
+                if weight.0.is_multiple_of(32) {
                     let mut counter = ByteCounter(0);
                     let _ = serde_json::to_writer(&mut counter, day);
                     let n = (weight.0 / 32 + 1).min(64);
