@@ -102,18 +102,12 @@ impl<K: Hash + Eq + Clone, V: Clone> Lru<K, V> {
 
 pub struct PlanMemo {
     enabled: bool,
-    inner: Mutex<Inner>,
+    plans: Mutex<Lru<DayKey, Arc<WeekPlan>>>,
     days: Mutex<Lru<DayKey, Arc<DayOutcome>>>,
     forecasts: Mutex<Lru<DayKey, SessionWork>>,
     /// Serialised size of a shown day, without and with explanation texts:
     /// (days weighed, running mean of the sampled ones).
     day_weight: Mutex<[(u64, usize); 2]>,
-}
-
-struct Inner {
-    plans: Lru<DayKey, Arc<WeekPlan>>,
-    hits: u64,
-    misses: u64,
 }
 
 /// The serialised size of a plan, estimated: the plan without its days and
@@ -154,11 +148,7 @@ impl PlanMemo {
         let half = max_bytes / 2;
         Self {
             enabled: max_bytes > 0,
-            inner: Mutex::new(Inner {
-                plans: Lru::new(half),
-                hits: 0,
-                misses: 0,
-            }),
+            plans: Mutex::new(Lru::new(half)),
             days: Mutex::new(Lru::new(half - half / 8)),
             forecasts: Mutex::new(Lru::new(half / 8)),
             day_weight: Mutex::new([(0, 0); 2]),
@@ -173,13 +163,8 @@ impl PlanMemo {
         }
         let keys = DayKeys::new(input, &GlycogenModel::default());
         let key = keys.input_key(input);
-        {
-            let mut inner = lock(&self.inner);
-            if let Some(plan) = inner.plans.get(&key) {
-                inner.hits += 1;
-                return Ok(plan);
-            }
-            inner.misses += 1;
+        if let Some(plan) = lock(&self.plans).get(&key) {
+            return Ok(plan);
         }
         let mut plan = plan_week_reusing(input, keys, self)?;
         let day_mean = {
@@ -191,17 +176,15 @@ impl PlanMemo {
             return Ok(Arc::new(plan));
         };
         let plan = Arc::new(plan);
-        lock(&self.inner)
-            .plans
-            .insert(key, plan.clone(), bytes + 64);
+        lock(&self.plans).insert(key, plan.clone(), bytes + 64);
         Ok(plan)
     }
 
     /// Bytes held (plans and days), plans reused and plans computed so far.
     pub fn stats(&self) -> (usize, u64, u64) {
-        let inner = lock(&self.inner);
-        let bytes = inner.plans.bytes + lock(&self.days).bytes + lock(&self.forecasts).bytes;
-        (bytes, inner.hits, inner.misses)
+        let plans = lock(&self.plans);
+        let bytes = plans.bytes + lock(&self.days).bytes + lock(&self.forecasts).bytes;
+        (bytes, plans.hits, plans.misses)
     }
 
     /// Days kept, their weight, days reused and days computed so far.
