@@ -214,6 +214,8 @@ for operation in [
     "GET /v1/activities", "GET /v1/teams/{team_id}/audit", "GET /v1/teams/{team_id}/changes",
     "GET /v1/sessions/{session_id}/participation", "GET /v1/athletes/{athlete_id}/sweat-tests",
     "GET /v1/athletes/{athlete_id}/calendar-feeds", "GET /v1/teams/{team_id}/plan/totals.csv",
+    # The public feed's optional from/to follow the same `to` not before `from` rule.
+    "GET /v1/calendar/{secret}",
     # A time zone is any string the IANA database knows, which a pattern cannot list.
     "POST /v1/teams", "PATCH /v1/teams/{team_id}",
 ]:
