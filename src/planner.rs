@@ -175,7 +175,7 @@ pub struct PlanOptions {
     /// Muscle and liver glycogen at the start, as a fraction of capacity;
     /// `None`: normal stores after a rest day.
     pub start_glycogen_fraction: Option<f64>,
-    /// Include each session's full minute-by-minute fuel result.
+    /// Include each session's full fuel result (5-minute series, segments, estimates).
     pub include_session_fuel: bool,
     /// Write each day's explanations (false for figure-only reads).
     pub explain_days: bool,

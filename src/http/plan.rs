@@ -65,7 +65,7 @@ pub struct PlanParams {
     /// (0.2 to 1.0); default: normal stores after a rest day.
     #[param(minimum = 0.2, maximum = 1.0)]
     start_glycogen_fraction: Option<f64>,
-    /// Include each session's minute-by-minute fuel result (larger response).
+    /// Include each session's full fuel result: its 5-minute series, segments and estimates (larger response).
     include_session_fuel: Option<bool>,
     /// Include the hourly glycogen series for charts (larger response;
     /// day and session start/end levels are always included).

@@ -1,5 +1,5 @@
 //! Session physiology: who the athlete is (VO2max, HRmax, glycogen capacity)
-//! and what one session costs them, minute by minute.
+//! and what one session costs them, through time.
 //!
 //! - [`athlete`]: a profile resolved into VO2max, HRmax and glycogen capacity,
 //!   with the estimates used to fill the gaps (field tests, defaults).

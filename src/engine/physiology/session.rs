@@ -1,11 +1,12 @@
-//! One athlete's session, simulated minute by minute: energy, carbohydrate and
+//! One athlete's session, simulated through time: energy, carbohydrate and
 //! fat, and the glycogen it draws.
 //!
 //! Guided tour:
 //! - [`simulate_session`]: the entry point from a profile; [`simulate_session_for`]
 //!   reuses an athlete resolved once (e.g. for a whole week).
-//! - The step loop, in steps of at most one minute aligned to whole minutes of
-//!   session time: VO2 of the segment ([`crate::engine::physiology::intensity`]) -> carbohydrate
+//! - The step loop, in steps of at most five minutes on the 5-minute grid of
+//!   session time (midpoint rule; `step_accuracy` tests it against a fine
+//!   reference): VO2 of the segment ([`crate::engine::physiology::intensity`]) -> carbohydrate
 //!   share ([`crate::engine::physiology::fuel_mix`], with the muscle glycogen left so far) -> NPRQ
 //!   -> kcal per litre of O2 (Zuntz/Lusk, [`crate::engine::physiology::gas_exchange`]) -> energy,
 //!   carbohydrate grams (4.18 kcal/g) and fat grams (9.46 kcal/g).
@@ -43,6 +44,11 @@ pub const MAX_SESSION_MINUTES: f64 = 600.0;
 pub const MAX_SEGMENTS: usize = 200;
 /// Time-series spacing, minutes.
 pub const SERIES_INTERVAL_MINUTES: f64 = 5.0;
+/// Longest integration step, minutes: steps end on this grid of session
+/// time (the series points) and at segment ends.
+pub const STEP_MINUTES: f64 = 5.0;
+/// Below this relative muscle glycogen the steps are one minute long.
+pub const FINE_STEP_BELOW_RELATIVE_GLYCOGEN: f64 = 0.3;
 /// Sustained-intensity check (`common practice`): around
 /// 80% VO2max and above is beyond the lactate threshold for most athletes.
 pub const SUSTAINED_FRACTION_VO2MAX: f64 = 0.80;
@@ -342,63 +348,87 @@ fn run(
         let blood_at_start = blood_glucose_share_at_start(fraction);
         weighted_fraction += fraction * segment.minutes;
         while elapsed < segment_end - EPSILON {
-            // Steps end at whole minutes of session time, so the 5-minute
-            // series points fall on step boundaries.
-            let next_minute = (elapsed + EPSILON).floor() + 1.0;
-            let step = next_minute.min(segment_end) - elapsed;
-            let relative_glycogen = muscle_g / capacity.muscle_g;
-            let share = carbohydrate_share_from_baseline(baseline, elapsed, relative_glycogen);
+            // Steps end on the 5-minute grid of session time (where the
+            // series points are) or at the segment's end.
+            // Close to empty, where the glycogen term stops falling and the
+            // muscle can run out, the grid is whole minutes.
+            let relative = muscle_g / capacity.muscle_g;
+            let grid = if relative < FINE_STEP_BELOW_RELATIVE_GLYCOGEN {
+                1.0
+            } else {
+                STEP_MINUTES
+            };
+            let grid_end = ((elapsed + EPSILON) / grid).floor() * grid + grid;
+            let step = grid_end.min(segment_end) - elapsed;
+            let share_at_start = carbohydrate_share_from_baseline(baseline, elapsed, relative);
             if elapsed + EPSILON >= next_point {
                 if full {
                     time_series.push(FuelPoint {
                         minute: next_point,
                         fraction_vo2max: fraction,
-                        carbohydrate_share: share,
+                        carbohydrate_share: share_at_start,
                         cumulative_carbohydrate_g: totals.carbohydrate_g,
                     });
                 }
                 next_point += SERIES_INTERVAL_MINUTES;
             }
 
-            let energy = uptake.l_per_min * step * kcal_per_litre_oxygen_at_share(share);
-            let carbohydrate = energy * share / CARBOHYDRATE_KCAL_PER_G;
-            let fat = energy * (1.0 - share) / FAT_KCAL_PER_G;
-            let from_blood = carbohydrate * blood_glucose_share_from_start(blood_at_start, elapsed);
-            // Muscle cannot give what it no longer holds; blood glucose covers the rest.
-            let from_muscle = (carbohydrate - from_blood).min(muscle_g);
-            let from_blood = carbohydrate - from_muscle;
-            muscle_g -= from_muscle;
-            liver_g = (liver_g - from_blood).max(0.0);
+            // Midpoint rule: the first half of the step at the starting
+            // share gives the glycogen at mid-step, where the step's share
+            // and blood-glucose split are evaluated.
+            let half = step / 2.0;
+            let mid_minute = elapsed + half;
+            let first_half = draw(
+                uptake.l_per_min * half,
+                share_at_start,
+                blood_glucose_share_from_start(blood_at_start, elapsed),
+                muscle_g,
+            );
+            let share = carbohydrate_share_from_baseline(
+                baseline,
+                mid_minute,
+                (muscle_g - first_half.from_muscle) / capacity.muscle_g,
+            );
+            let whole = draw(
+                uptake.l_per_min * step,
+                share,
+                blood_glucose_share_from_start(blood_at_start, mid_minute),
+                muscle_g,
+            );
+            let (muscle_before, liver_before) = (muscle_g, liver_g);
+            muscle_g -= whole.from_muscle;
+            liver_g = (liver_g - whole.from_blood).max(0.0);
 
-            totals.energy_kcal += energy;
-            totals.carbohydrate_g += carbohydrate;
-            totals.fat_g += fat;
-            totals.muscle_g += from_muscle;
-            totals.blood_glucose_g += from_blood;
+            totals.energy_kcal += whole.energy;
+            totals.carbohydrate_g += whole.carbohydrate;
+            totals.fat_g += whole.fat;
+            totals.muscle_g += whole.from_muscle;
+            totals.blood_glucose_g += whole.from_blood;
+            let step_start = elapsed;
             elapsed += step;
 
-            if full
-                && !muscle_low_warned
-                && muscle_g < LOW_MUSCLE_GLYCOGEN_FRACTION * capacity.muscle_g
-            {
+            let muscle_low = LOW_MUSCLE_GLYCOGEN_FRACTION * capacity.muscle_g;
+            if full && !muscle_low_warned && muscle_g < muscle_low {
                 muscle_low_warned = true;
+                let minute = crossing_minute(step_start, step, muscle_before, muscle_g, muscle_low);
                 warnings.push(SessionWarning {
                     code: WarningCode::MuscleGlycogenLow,
                     message: format!(
-                        "estimated muscle glycogen falls below {:.0}% of normal stores at minute {elapsed:.0}; \
+                        "estimated muscle glycogen falls below {:.0}% of normal stores at minute {minute:.0}; \
                          performance is likely to suffer: plan carbohydrate before and during the session",
                         LOW_MUSCLE_GLYCOGEN_FRACTION * 100.0
                     ),
                     segment: Some(index),
                 });
             }
-            if full && !liver_low_warned && liver_g < LOW_LIVER_GLYCOGEN_FRACTION * capacity.liver_g
-            {
+            let liver_low = LOW_LIVER_GLYCOGEN_FRACTION * capacity.liver_g;
+            if full && !liver_low_warned && liver_g < liver_low {
                 liver_low_warned = true;
+                let minute = crossing_minute(step_start, step, liver_before, liver_g, liver_low);
                 warnings.push(SessionWarning {
                     code: WarningCode::LiverGlycogenLow,
                     message: format!(
-                        "estimated liver glycogen falls below {:.0}% of fed stores at minute {elapsed:.0}; \
+                        "estimated liver glycogen falls below {:.0}% of fed stores at minute {minute:.0}; \
                          blood glucose may fall without carbohydrate during the session",
                         LOW_LIVER_GLYCOGEN_FRACTION * 100.0
                     ),
@@ -469,6 +499,39 @@ fn run(
         estimates,
         warnings,
     }
+}
+
+/// Energy and carbohydrate of `litres_oxygen` at a carbohydrate `share`,
+/// with `blood_share` of the carbohydrate from blood glucose.
+struct Draw {
+    energy: f64,
+    carbohydrate: f64,
+    fat: f64,
+    from_muscle: f64,
+    from_blood: f64,
+}
+
+fn draw(litres_oxygen: f64, share: f64, blood_share: f64, muscle_g: f64) -> Draw {
+    let energy = litres_oxygen * kcal_per_litre_oxygen_at_share(share);
+    let carbohydrate = energy * share / CARBOHYDRATE_KCAL_PER_G;
+    // Muscle cannot give what it no longer holds; blood glucose covers the rest.
+    let from_muscle = (carbohydrate * (1.0 - blood_share)).min(muscle_g);
+    Draw {
+        energy,
+        carbohydrate,
+        fat: energy * (1.0 - share) / FAT_KCAL_PER_G,
+        from_muscle,
+        from_blood: carbohydrate - from_muscle,
+    }
+}
+
+/// Minute of session time at which a store falling from `before` to `after`
+/// over a step crosses `level` (linear within the step).
+fn crossing_minute(step_start: f64, step: f64, before: f64, after: f64, level: f64) -> f64 {
+    if before <= level || before <= after {
+        return step_start;
+    }
+    step_start + step * ((before - level) / (before - after)).clamp(0.0, 1.0)
 }
 
 /// Warnings that follow from the inputs alone, before the simulation.
@@ -544,5 +607,7 @@ fn intensity_warnings(
     }
 }
 
+#[cfg(test)]
+mod step_accuracy;
 #[cfg(test)]
 mod tests;

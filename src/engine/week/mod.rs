@@ -64,7 +64,7 @@
 
 use std::collections::BTreeMap;
 
-use chrono::{NaiveDate, NaiveDateTime, NaiveTime, TimeDelta, Timelike};
+use chrono::{NaiveDate, NaiveDateTime, NaiveTime, TimeDelta};
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
 use uuid::Uuid;

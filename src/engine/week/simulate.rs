@@ -46,7 +46,6 @@ impl Planner<'_> {
         let resolved = &self.athletes[athlete];
         let capacity = resolved.glycogen_capacity;
         let day_start = date.and_time(NaiveTime::MIN);
-        let day_end = day_start + TimeDelta::days(1);
         let mut timeline = timeline.clone();
         for occasion in occasions {
             if occasion.carbohydrate_g > 0.0 {
@@ -57,122 +56,123 @@ impl Planner<'_> {
         }
         timeline.pending_intake.sort_by_key(|(time, _)| *time);
 
-        // Breakpoints: the step grid, meals, session starts and ends, and the
-        // end of the early resynthesis window.
-        let step = TimeDelta::seconds((model.step_minutes * 60.0) as i64);
-        let early = TimeDelta::seconds((model.early_resynthesis_hours * 3600.0) as i64);
-        let mut points: Vec<NaiveDateTime> = Vec::with_capacity(128);
-        let mut t = day_start;
-        while t < day_end {
-            points.push(t);
-            t += step;
+        // Breakpoints, in seconds from midnight: the step grid, meals,
+        // session starts and ends, and the end of the early resynthesis
+        // window. Integer seconds keep the loop free of calendar arithmetic.
+        let secs = |time: NaiveDateTime| (time - day_start).num_seconds();
+        let step = (model.step_minutes * 60.0) as i64;
+        let early = (model.early_resynthesis_hours * 3600.0) as i64;
+        const DAY: i64 = 86_400;
+        let intake_at: Vec<i64> = timeline
+            .pending_intake
+            .iter()
+            .map(|(time, _)| secs(*time))
+            .collect();
+        let starts_at: Vec<(i64, i64)> = today
+            .iter()
+            .map(|&index| {
+                let session = &self.input.sessions[index];
+                (secs(session.start()), secs(session.end()))
+            })
+            .collect();
+        let mut points: Vec<i64> = Vec::with_capacity(128);
+        points.extend((0..DAY).step_by(step.max(1) as usize));
+        points.extend(intake_at.iter().copied());
+        for &(start, end) in &starts_at {
+            points.extend([start, end, end + early]);
         }
-        points.extend(
-            timeline
-                .pending_intake
-                .iter()
-                .map(|(time, _)| *time)
-                .filter(|time| *time >= day_start && *time < day_end),
-        );
-        for &index in today {
-            let session = &self.input.sessions[index];
-            points.push(session.start());
-            points.push(session.end());
-            points.push(session.end() + early);
+        let mut active_end = timeline.active.map(|active| secs(active.end));
+        if let Some(end) = active_end {
+            points.extend([end, end + early]);
         }
-        if let Some(active) = timeline.active {
-            points.push(active.end);
-            points.push(active.end + early);
-        }
-        if let Some(end) = timeline.last_session_end {
+        let mut last_end = timeline.last_session_end.map(secs);
+        if let Some(end) = last_end {
             points.push(end + early);
         }
-        points.retain(|time| *time >= day_start && *time < day_end);
-        points.sort();
+        points.retain(|time| (0..DAY).contains(time));
+        points.sort_unstable();
         points.dedup();
-        points.push(day_end);
+        points.push(DAY);
+        let mut slowed_until = timeline
+            .slowed_until
+            .map(|(until, slowing)| (secs(until), slowing));
 
         let mut starts = Vec::new();
         let mut ends = Vec::new();
         let mut series = Vec::with_capacity(26);
         let mut day_flows = GlycogenFlows::default();
-        let mut starting = today.iter().peekable();
+        let mut starting = today.iter().zip(&starts_at).peekable();
+        let mut eaten = 0;
         for pair in points.windows(2) {
             let (now, next) = (pair[0], pair[1]);
             // Intake reached by now enters the gut.
-            let due = timeline
-                .pending_intake
-                .iter()
-                .take_while(|(time, _)| *time <= now)
-                .count();
-            for (_, grams) in timeline.pending_intake.drain(..due) {
-                timeline.stores.gut_g += grams;
+            while eaten < intake_at.len() && intake_at[eaten] <= now {
+                timeline.stores.gut_g += timeline.pending_intake[eaten].1;
+                eaten += 1;
             }
             let mut event = false;
-            if let Some(active) = timeline.active
-                && active.end <= now
+            if let (Some(active), Some(end)) = (timeline.active, active_end)
+                && end <= now
             {
                 ends.push((active.index, GlycogenLevel::of(&timeline.stores, &capacity)));
                 timeline.last_session_end = Some(active.end);
+                last_end = Some(end);
                 timeline.active = None;
+                active_end = None;
                 event = true;
             }
-            while let Some(&&index) = starting.peek() {
-                let session = &self.input.sessions[index];
-                if session.start() > now {
+            while let Some(&(&index, &(start, end))) = starting.peek() {
+                if start > now {
                     break;
                 }
                 starting.next();
+                let session = &self.input.sessions[index];
                 let state = GlycogenState {
                     muscle_g: timeline.stores.muscle_g,
                     liver_g: timeline.stores.liver_g,
                 };
                 let fuel = self.simulate(athlete, index, Some(state), self.detail())?;
                 let clock_hours = session.clock_minutes() / 60.0;
-                starts.push((
-                    index,
-                    GlycogenLevel::of(&timeline.stores, &capacity),
-                    fuel.clone(),
-                ));
-                timeline.active = Some(ActiveSession {
-                    index,
-                    end: session.end(),
-                    draw: SessionDraw {
-                        muscle_g_per_hour: fuel.muscle_glycogen_used_g / clock_hours,
-                        liver_g_per_hour: fuel.blood_glucose_carbohydrate_g / clock_hours,
-                        working_share: fuel.total_minutes / session.clock_minutes(),
-                    },
-                });
+                let draw = SessionDraw {
+                    muscle_g_per_hour: fuel.muscle_glycogen_used_g / clock_hours,
+                    liver_g_per_hour: fuel.blood_glucose_carbohydrate_g / clock_hours,
+                    working_share: fuel.total_minutes / session.clock_minutes(),
+                };
                 if session.kind == SessionKind::Match {
                     let slowing =
                         model.post_match_resynthesis_slowing * (fuel.total_minutes / 90.0).min(1.0);
-                    let until = session.end()
-                        + TimeDelta::seconds((model.post_match_slowing_hours * 3600.0) as i64);
-                    timeline.slowed_until = Some((until, slowing));
+                    let hours = (model.post_match_slowing_hours * 3600.0) as i64;
+                    timeline.slowed_until =
+                        Some((session.end() + TimeDelta::seconds(hours), slowing));
+                    slowed_until = Some((end + hours, slowing));
                 }
+                starts.push((index, GlycogenLevel::of(&timeline.stores, &capacity), fuel));
+                timeline.active = Some(ActiveSession {
+                    index,
+                    end: session.end(),
+                    draw,
+                });
+                active_end = Some(end);
                 event = true;
             }
-            if event || (now.minute() == 0 && now.second() == 0) {
+            if event || now % 3600 == 0 {
                 series.push(GlycogenPoint {
-                    time: now,
+                    time: day_start + TimeDelta::seconds(now),
                     muscle_g: round_to(timeline.stores.muscle_g, 0.1),
                     liver_g: round_to(timeline.stores.liver_g, 0.1),
                     muscle_fraction: round_to(timeline.stores.muscle_g / capacity.muscle_g, 0.001),
                 });
             }
-            let hours = (next - now).num_seconds() as f64 / 3600.0;
             let interval = Interval {
-                hours,
+                hours: (next - now) as f64 / 3600.0,
                 body_mass_kg: resolved.body_mass_kg,
                 muscle_mass_kg: capacity.muscle_mass_kg,
                 muscle_capacity_g: capacity.muscle_g,
                 liver_capacity_g: capacity.liver_g,
                 early_after_session: timeline.active.is_none()
-                    && timeline
-                        .last_session_end
-                        .is_some_and(|end| now >= end && now < end + early),
+                    && last_end.is_some_and(|end| now >= end && now < end + early),
                 session: timeline.active.map(|active| active.draw),
-                muscle_resynthesis_factor: match timeline.slowed_until {
+                muscle_resynthesis_factor: match slowed_until {
                     Some((until, slowing)) if now < until => 1.0 - slowing,
                     _ => 1.0,
                 },
@@ -181,6 +181,7 @@ impl Planner<'_> {
             timeline.stores = stores;
             day_flows.add(&flows);
         }
+        timeline.pending_intake.drain(..eaten);
         Ok(DayRun {
             timeline,
             starts,
