@@ -9,7 +9,7 @@
 //! - [`profile`]: the athlete and session inputs the engine understands.
 //! - [`physiology`] -> [`glycogen`]: who the athlete is (VO2max, HRmax,
 //!   working-muscle glycogen capacity), every intensity form as oxygen
-//!   uptake, the fuel mix, and one session simulated minute by minute.
+//!   uptake, the fuel mix, and one session simulated through time.
 //! - [`glycogen`]: capacity of the working muscles and liver, and how eaten
 //!   carbohydrate refills them between sessions.
 //! - [`day`]: one athlete's day from its session work: the energy budget,
@@ -20,9 +20,11 @@
 //!   span, with glycogen carried over from the week before, the day loop, the
 //!   glycogen simulation and the warnings a dietitian acts on.
 //! - [`hydration`]: the sweat-rate calculator.
-//! - [`estimate`] and [`sources`]: what was estimated, and shared citations.
+//! - [`estimate`] and [`sources`]: what was estimated, and shared citations;
+//!   [`decimal`]: numbers in texts, written fast.
 
 pub mod day;
+pub mod decimal;
 pub mod estimate;
 pub mod glycogen;
 pub mod hydration;

@@ -2,6 +2,7 @@
 //! train-low placement, carbohydrate loading asked for a short event, and the
 //! safety notes (under 18, body-mass loss, declared health conditions).
 
+use crate::engine::decimal::Dec;
 use chrono::TimeDelta;
 
 use crate::engine::day::energy::GoalAdjustment;
@@ -66,7 +67,7 @@ pub(crate) fn loading_warnings(input: &DayInput, warnings: &mut Vec<Warning>) {
                     Severity::Warning,
                     format!(
                         "Carbohydrate loading was asked for '{}' ({:.0} min) but it is for events over 90 min; general fuelling up is used instead.",
-                        session.title, session.minutes
+                        session.title, Dec(session.minutes)
                     ),
                 )
                 .for_session(session.session_id),
@@ -87,7 +88,7 @@ pub(crate) fn safety_notes(
             Severity::Safety,
             format!(
                 "The athlete is {:.0}: these adult targets are not validated for under-18s.",
-                input.profile.age_years.floor()
+                Dec(input.profile.age_years.floor())
             ),
         ));
         cautions.push("The athlete is under 18: adult targets do not simply apply and growth needs energy. Plan with a registered dietitian and a physician, involve parents or guardians as local rules require, and do not plan body-mass loss without them.".into());
@@ -95,7 +96,7 @@ pub(crate) fn safety_notes(
     if input.profile.goal == GoalDirection::Reduce && !goal.withheld_under_18 {
         cautions.push(format!(
             "Planned body-mass loss of {:.2} kg/week: keep it at or under about 0.5-1% of body mass per week (common practice), under a registered dietitian's supervision, and watch for signs of low energy availability.",
-            goal.applied_kg_per_week
+            Dec(goal.applied_kg_per_week)
         ));
     }
     let mut flags = input.health_flags.clone();

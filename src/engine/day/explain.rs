@@ -17,6 +17,7 @@ use crate::engine::day::targets::{
     CarbohydrateDecision, CarbohydrateRule, DayLoad, GramsPerKgRange, MacroFit, PROTEIN_RANGE,
     WORK_CURVE_FLOOR, WORK_CURVE_SCALE, WORK_CURVE_SPAN,
 };
+use crate::engine::decimal::Dec;
 use crate::engine::profile::GoalDirection;
 use crate::engine::sources::THOMAS_2016;
 
@@ -54,15 +55,15 @@ pub(crate) fn explanations(x: &ExplainInput<'_>) -> Vec<Explanation> {
             TargetRule::LoadBandClassification,
             format!(
                 "Fuel demand {:.2} g/kg: {:.0} min of work oxidising {:.2} g/kg of carbohydrate (forecast from normal stores), {:.2} g/kg for tomorrow's key work, {:.2} g/kg of working-muscle glycogen to restore. The target it gives falls in the {} band.",
-                load.fuel_demand_g_per_kg,
-                load.total_minutes,
-                load.carbohydrate_oxidised_g_per_kg,
-                load.next_day_key_carbohydrate_g_per_kg,
-                load.glycogen_to_restore_g_per_kg,
+                Dec(load.fuel_demand_g_per_kg),
+                Dec(load.total_minutes),
+                Dec(load.carbohydrate_oxidised_g_per_kg),
+                Dec(load.next_day_key_carbohydrate_g_per_kg),
+                Dec(load.glycogen_to_restore_g_per_kg),
                 load.band.name(),
             ),
             format!(
-                "{THOMAS_2016} (bands); the demand and the curve {WORK_CURVE_FLOOR:.0} + {WORK_CURVE_SPAN:.0} x (1 - e^(-demand/{WORK_CURVE_SCALE:.0})) are our calibration (common practice)"
+                "{THOMAS_2016} (bands); the demand and the curve {WORK_CURVE_FLOOR:.0} + {WORK_CURVE_SPAN:.0} x (1 - e^(-demand/{WORK_CURVE_SCALE:.0})) are our calibration (common practice)", WORK_CURVE_FLOOR = Dec(WORK_CURVE_FLOOR), WORK_CURVE_SPAN = Dec(WORK_CURVE_SPAN), WORK_CURVE_SCALE = Dec(WORK_CURVE_SCALE)
             ),
         )
         .with_band(load.band)
@@ -84,7 +85,8 @@ pub(crate) fn explanations(x: &ExplainInput<'_>) -> Vec<Explanation> {
             format!(
                 "{} = {:.0} g for {mass:.1} kg.",
                 decision.text,
-                decision.g_per_kg * mass
+                Dec(decision.g_per_kg * mass),
+                mass = Dec(mass)
             ),
             decision.source.clone(),
         )
@@ -100,15 +102,15 @@ pub(crate) fn explanations(x: &ExplainInput<'_>) -> Vec<Explanation> {
             if fit.carbohydrate_moved_g < 0.0 {
                 format!(
                     "Carbohydrate trimmed by {:.0} g (to {:.2} g/kg, inside the day's range) so that the body-mass loss deficit holds with fat at 20% of energy.",
-                    -fit.carbohydrate_moved_g,
-                    fit.carbohydrate_g / mass
+                    Dec(-fit.carbohydrate_moved_g),
+                    Dec(fit.carbohydrate_g / mass)
                 )
             } else {
                 format!(
                     "The day's energy leaves more than 35% for fat after the work's carbohydrate: protein raised by {:.0} g and carbohydrate by {:.0} g (to {:.2} g/kg, inside the day's range), so fat stays at or under 35% of energy.",
-                    fit.protein_added_g,
-                    fit.carbohydrate_moved_g,
-                    fit.carbohydrate_g / mass
+                    Dec(fit.protein_added_g),
+                    Dec(fit.carbohydrate_moved_g),
+                    Dec(fit.carbohydrate_g / mass)
                 )
             },
             format!("{THOMAS_2016} (fat 20-35% of energy, protein 1.2-2.0 g/kg, from memory)"),
@@ -120,7 +122,7 @@ pub(crate) fn explanations(x: &ExplainInput<'_>) -> Vec<Explanation> {
             TargetRule::DietitianPin,
             format!(
                 "Carbohydrate pinned by the dietitian at {pin} g/kg ({:.1} g); the work alone calls for {:.2} g/kg.",
-                x.carbohydrate_g, decision.g_per_kg
+                Dec(x.carbohydrate_g), Dec(decision.g_per_kg)
             ),
             "Dietitian's decision",
         ));
@@ -135,15 +137,15 @@ pub(crate) fn explanations(x: &ExplainInput<'_>) -> Vec<Explanation> {
             },
             format!(
                 "Protein {:.2} g/kg = {:.1} g (setting {:.2} g/kg: {}), spread over the meals and recovery occasions at about 0.3 g/kg ({:.0} g) each.",
-                x.protein_g_per_kg,
-                x.protein_g,
-                x.computed_protein,
+                Dec(x.protein_g_per_kg),
+                Dec(x.protein_g),
+                Dec(x.computed_protein),
                 if input.profile.goal == GoalDirection::Reduce {
                     "upper end of 1.2-2.0 g/kg during planned body-mass loss"
                 } else {
                     "inside 1.2-2.0 g/kg"
                 },
-                PROTEIN_PER_OCCASION_G_PER_KG * mass
+                Dec(PROTEIN_PER_OCCASION_G_PER_KG * mass)
             ),
             format!("{THOMAS_2016}; 0.3 g/kg per occasion from memory"),
         )
@@ -154,8 +156,8 @@ pub(crate) fn explanations(x: &ExplainInput<'_>) -> Vec<Explanation> {
         TargetRule::FatRemainder,
         format!(
             "Fat is the energy left after carbohydrate and protein: {:.1} g, {:.0}% of energy (kept inside 20-35%).",
-            x.fat_g,
-            x.fat_share * 100.0
+            Dec(x.fat_g),
+            Dec(x.fat_share * 100.0)
         ),
         format!("{THOMAS_2016} (fat 20-35% of energy, from memory)"),
     ));
@@ -170,7 +172,7 @@ pub(crate) fn explanations(x: &ExplainInput<'_>) -> Vec<Explanation> {
         },
         format!(
             "Resting metabolic rate {:.0} kcal/d by {}{}.",
-            rmr.kcal_per_day,
+            Dec(rmr.kcal_per_day),
             match rmr.method {
                 RestingMetabolicRateMethod::Cunningham => "Cunningham, 500 + 22 x fat-free mass",
                 RestingMetabolicRateMethod::MifflinStJeor => "Mifflin-St Jeor",
@@ -196,15 +198,15 @@ pub(crate) fn explanations(x: &ExplainInput<'_>) -> Vec<Explanation> {
         },
         format!(
             "Energy {:.0} kcal: RMR {:.0} x {:.2} for the {:.0} min outside sessions = {:.0} kcal, + {:.0} kcal gross session energy = {:.0} kcal estimated expenditure; {:+.0} kcal for the goal ({:.2} kg/week at {KCAL_PER_KG_BODY_MASS:.0} kcal/kg){}{}{}.",
-            x.energy_kcal,
-            rmr.kcal_per_day,
-            budget.non_exercise_activity_factor,
-            budget.non_exercise_minutes,
-            budget.non_exercise_kcal,
-            budget.exercise_kcal,
-            budget.expenditure_kcal,
-            goal.kcal_per_day,
-            goal.applied_kg_per_week,
+            Dec(x.energy_kcal),
+            Dec(rmr.kcal_per_day),
+            Dec(budget.non_exercise_activity_factor),
+            Dec(budget.non_exercise_minutes),
+            Dec(budget.non_exercise_kcal),
+            Dec(budget.exercise_kcal),
+            Dec(budget.expenditure_kcal),
+            Dec(goal.kcal_per_day),
+            Dec(goal.applied_kg_per_week),
             if budget.deficit_limited_by_kcal > 0.0 {
                 format!(", {:.0} kcal given back to keep energy availability out of the low band", budget.deficit_limited_by_kcal)
             } else {
@@ -219,7 +221,7 @@ pub(crate) fn explanations(x: &ExplainInput<'_>) -> Vec<Explanation> {
                 format!(", + {:.0} kcal to keep fat at 20%", fit.energy_added_kcal)
             } else {
                 String::new()
-            },
+            }, KCAL_PER_KG_BODY_MASS = Dec(KCAL_PER_KG_BODY_MASS),
         ),
         "Activity factor for non-exercise time: common practice (FAO/WHO/UNU 2004 physical activity levels, from memory); session energy from the session model; 7700 kcal/kg: common practice",
     ));
@@ -228,15 +230,15 @@ pub(crate) fn explanations(x: &ExplainInput<'_>) -> Vec<Explanation> {
         TargetRule::EnergyAvailability,
         format!(
             "Energy availability ({:.0} - {:.0} kcal {} exercise energy) / {:.1} kg fat-free mass{} = {:.1} kcal/kg FFM/day: {}.",
-            x.energy_kcal,
-            budget.exercise_kcal_for_energy_availability,
+            Dec(x.energy_kcal),
+            Dec(budget.exercise_kcal_for_energy_availability),
             match settings.exercise_energy_basis {
                 ExerciseEnergyBasis::Gross => "gross",
                 ExerciseEnergyBasis::Net => "net",
             },
-            ffm.kg,
+            Dec(ffm.kg),
             if ffm.estimated { " (estimated)" } else { "" },
-            x.ea_value,
+            Dec(x.ea_value),
             match x.ea_band {
                 EnergyAvailabilityBand::Adequate => "adequate",
                 EnergyAvailabilityBand::Reduced => "reduced",
@@ -256,7 +258,9 @@ pub(crate) fn explanations(x: &ExplainInput<'_>) -> Vec<Explanation> {
                 TargetRule::DuringSession,
                 format!(
                     "'{}' ({:.0} min): {}",
-                    plan.session.title, plan.minutes, plan.during.note
+                    plan.session.title,
+                    Dec(plan.minutes),
+                    plan.during.note
                 ),
                 THOMAS_2016,
             )
@@ -311,9 +315,9 @@ pub(crate) fn explanations(x: &ExplainInput<'_>) -> Vec<Explanation> {
             x.occasion_count,
             times.wake.format("%H:%M"),
             times.sleep.format("%H:%M"),
-            x.carbohydrate_g,
-            x.protein_g,
-            x.fat_g
+            Dec(x.carbohydrate_g),
+            Dec(x.protein_g),
+            Dec(x.fat_g)
         ),
         "Common practice",
     ));

@@ -25,6 +25,7 @@
 //! 5. Grams are rounded to 0.1 g by largest remainder, so the occasions add up
 //!    exactly to the day's targets.
 
+use crate::engine::decimal::Dec;
 use chrono::{NaiveDate, NaiveDateTime, NaiveTime};
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
@@ -330,7 +331,8 @@ pub fn plan_eating_occasions(
                 &mut draft.note,
                 &format!(
                     "Pre-session: {g_per_kg:.1} g/kg, {:.1} h before the start.",
-                    hours_between(draft.time, start)
+                    Dec(hours_between(draft.time, start)),
+                    g_per_kg = Dec(g_per_kg)
                 ),
             );
         }

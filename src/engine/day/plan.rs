@@ -13,6 +13,7 @@
 //! value beside them); session fuelling; eating occasions; warnings,
 //! explanations ([`super::explain`]) and cautions.
 
+use crate::engine::decimal::Dec;
 use chrono::{NaiveDate, NaiveTime, TimeDelta};
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
@@ -189,7 +190,7 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
             Severity::Safety,
             format!(
                 "The body-mass loss deficit was reduced by {:.0} kcal so that planned energy availability does not fall below {:.0} kcal/kg FFM/day.",
-                budget.deficit_limited_by_kcal, thresholds.low_below
+                Dec(budget.deficit_limited_by_kcal), Dec(thresholds.low_below)
             ),
         ));
     }
@@ -206,9 +207,9 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
             Severity::Safety,
             format!(
                 "Requested {:.2} kg/week is faster than {:.1}% of body mass per week; the plan uses {:.2} kg/week.",
-                goal.requested_kg_per_week.unwrap_or_default(),
-                settings.max_body_mass_change_percent_per_week,
-                goal.applied_kg_per_week
+                Dec(goal.requested_kg_per_week.unwrap_or_default()),
+                Dec(settings.max_body_mass_change_percent_per_week),
+                Dec(goal.applied_kg_per_week)
             ),
         ));
     }
@@ -265,7 +266,10 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
     if fuelling_floor > decision.g_per_kg + 1e-9 {
         decision.text = format!(
             "{}; raised to {fuelling_floor:.2} g/kg so that the day holds its session fuelling ({session_fuelling_g:.0} g before, during and after the sessions) and about {OTHER_MEALS_G_PER_KG:.1} g/kg for the other meals",
-            decision.text
+            decision.text,
+            fuelling_floor = Dec(fuelling_floor),
+            session_fuelling_g = Dec(session_fuelling_g),
+            OTHER_MEALS_G_PER_KG = Dec(OTHER_MEALS_G_PER_KG)
         );
         decision.g_per_kg = fuelling_floor;
     }
@@ -321,7 +325,8 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
                 Severity::Warning,
                 format!(
                     "The body-mass loss deficit was reduced by {:.0} kcal: with carbohydrate at the low end of its range for this day and protein at {:.1} g/kg, fat would fall under 20% of energy. Lower the carbohydrate (pin) or accept a slower loss.",
-                    fit.energy_added_kcal, protein_g_per_kg
+                    Dec(fit.energy_added_kcal),
+                    Dec(protein_g_per_kg)
                 ),
             )
         } else {
@@ -330,7 +335,7 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
                 Severity::Notice,
                 format!(
                     "Carbohydrate and protein leave under 20% of energy for fat: energy was raised by {:.0} kcal to keep fat at 20%.",
-                    fit.energy_added_kcal
+                    Dec(fit.energy_added_kcal)
                 ),
             )
         };
@@ -343,7 +348,7 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
                 WarningCode::PinnedEnergyBelowMacronutrients,
                 Severity::Warning,
                 format!(
-                    "Pinned energy {energy_kcal:.0} kcal is below the {macro_kcal:.0} kcal in the carbohydrate and protein targets: fat is planned at 0 g and the occasions carry {macro_kcal:.0} kcal."
+                    "Pinned energy {energy_kcal:.0} kcal is below the {macro_kcal:.0} kcal in the carbohydrate and protein targets: fat is planned at 0 g and the occasions carry {macro_kcal:.0} kcal.", energy_kcal = Dec(energy_kcal), macro_kcal = Dec(macro_kcal)
                 ),
             ));
         } else if fat_share < FAT_MIN_SHARE - 1e-6 {
@@ -352,7 +357,7 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
                 Severity::Warning,
                 format!(
                     "With the pinned energy, fat is {:.0}% of energy, below the 20% minimum.",
-                    fat_share * 100.0
+                    Dec(fat_share * 100.0)
                 ),
             ));
         }
@@ -363,7 +368,7 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
             Severity::Notice,
             format!(
                 "Fat is {:.0}% of energy, above the usual 20-35%: {}",
-                fat_share * 100.0,
+                Dec(fat_share * 100.0),
                 if pins.carbohydrate_g_per_kg.is_some() || energy_pin.is_some() {
                     "the pinned values leave the energy to fat; swap some for carbohydrate or protein if preferred."
                 } else {
@@ -384,12 +389,12 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
                 Severity::Safety,
                 format!(
                     "Planned energy availability is {ea_value:.1} kcal/kg FFM/day, under {:.0} (low).",
-                    thresholds.low_below
+                    Dec(thresholds.low_below), ea_value = Dec(ea_value)
                 ),
             ));
             cautions.push(format!(
                 "Low energy availability: this plan gives {ea_value:.1} kcal/kg fat-free mass per day, under the {:.0} threshold. Low energy availability harms health and performance (relative energy deficiency in sport, IOC consensus). Do not follow this plan without review by a registered dietitian or a physician.",
-                thresholds.low_below
+                Dec(thresholds.low_below), ea_value = Dec(ea_value)
             ));
         }
         // The plan meets its own adequate edge unless a deficit or a pin moves it.
@@ -398,13 +403,13 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
             Severity::Notice,
             format!(
                 "Planned energy availability is {ea_value:.1} kcal/kg FFM/day, between {:.0} and {:.0}, because of {}.",
-                thresholds.low_below,
-                thresholds.adequate_for(profile.sex),
+                Dec(thresholds.low_below),
+                Dec(thresholds.adequate_for(profile.sex)),
                 if energy_pin.is_some() {
                     "the pinned energy"
                 } else {
                     "the planned body-mass loss"
-                }
+                }, ea_value = Dec(ea_value)
             ),
         )),
         EnergyAvailabilityBand::Adequate => {}
@@ -419,11 +424,12 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
             Severity::Notice,
             format!(
                 "Fat-free mass estimated at {:.1} kg from an assumed {percent:.0}% body fat.",
-                ffm.kg
+                Dec(ffm.kg),
+                percent = Dec(percent)
             ),
         ));
         cautions.push(format!(
-            "Fat-free mass is an estimate ({percent:.0}% body fat assumed, no measurement): energy availability is an estimate too. Measure body composition for a firmer figure."
+            "Fat-free mass is an estimate ({percent:.0}% body fat assumed, no measurement): energy availability is an estimate too. Measure body composition for a firmer figure.", percent = Dec(percent)
         ));
     }
 
@@ -436,7 +442,7 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
             Severity::Warning,
             format!(
                 "Pinned carbohydrate {pin:.2} g/kg is outside the {:.0}-{:.0} g/kg range for this day (computed {:.2} g/kg).",
-                range.min, range.max, own.carbohydrate_g / mass
+                Dec(range.min), Dec(range.max), Dec(own.carbohydrate_g / mass), pin = Dec(pin)
             ),
         ));
     }
@@ -447,7 +453,7 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
             WarningCode::PinOutsidePublishedRange,
             Severity::Warning,
             format!(
-                "Pinned protein {pin:.2} g/kg is outside the published 1.2-2.0 g/kg/d (computed {computed_protein:.2} g/kg)."
+                "Pinned protein {pin:.2} g/kg is outside the published 1.2-2.0 g/kg/d (computed {computed_protein:.2} g/kg).", pin = Dec(pin), computed_protein = Dec(computed_protein)
             ),
         ));
     }
@@ -481,9 +487,10 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
                 before.suggested_g_per_kg = grams / mass;
                 before.note = format!(
                     "Over 60 min: 1-4 g/kg 1-4 h before; planned {:.1} g/kg ({grams:.0} g) at {}, {:.1} h before the start.",
-                    grams / mass,
+                    Dec(grams / mass),
                     time.format("%H:%M"),
-                    (plan.start - time).num_minutes() as f64 / 60.0
+                    Dec((plan.start - time).num_minutes() as f64 / 60.0),
+                    grams = Dec(grams)
                 );
             }
             None => {

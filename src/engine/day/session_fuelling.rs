@@ -16,6 +16,7 @@
 //!   protein [from memory].
 //! - Train-low sessions get no carbohydrate before or during.
 
+use crate::engine::decimal::Dec;
 use chrono::NaiveDateTime;
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
@@ -268,7 +269,7 @@ pub fn plan_session_fuelling(
                     Severity::Warning,
                     format!(
                         "Only {gap:.1} h between yesterday's '{}' and '{}': speedy refuelling after yesterday's session runs into this morning.",
-                        last.title, first.title
+                        last.title, first.title, gap = Dec(gap)
                     ),
                 )
                 .for_session(first.session_id),
@@ -310,8 +311,8 @@ pub fn plan_session_fuelling(
             note: match guidance {
                 DuringGuidance::NoneNeeded => "Under 45 min: no carbohydrate needed; water to thirst.".into(),
                 DuringGuidance::MouthRinseOrSmallAmounts => "45-75 min: a carbohydrate mouth rinse or small amounts; nothing planned in the day's totals.".into(),
-                DuringGuidance::ThirtyToSixtyGramsPerHour => format!("1-2.5 h: 30-60 g/h; planned {planned_rate:.0} g/h."),
-                DuringGuidance::UpToNinetyGramsPerHourMultipleTransportable => format!("Over 2.5 h: up to 90 g/h from multiple transportable carbohydrates (glucose and fructose); planned {planned_rate:.0} g/h, only with a practised gut."),
+                DuringGuidance::ThirtyToSixtyGramsPerHour => format!("1-2.5 h: 30-60 g/h; planned {planned_rate:.0} g/h.", planned_rate = Dec(planned_rate)),
+                DuringGuidance::UpToNinetyGramsPerHourMultipleTransportable => format!("Over 2.5 h: up to 90 g/h from multiple transportable carbohydrates (glucose and fructose); planned {planned_rate:.0} g/h, only with a practised gut.", planned_rate = Dec(planned_rate)),
                 DuringGuidance::WithheldForTrainLow => "Train-low session: no carbohydrate during, by design.".into(),
             },
         };
@@ -378,8 +379,9 @@ fn before_session(
         before.snack = true;
         before.note = format!(
             "Early session ({:.1} h after waking): no time for a pre-session meal; a small, easily digested carbohydrate snack of {g_per_kg:.1} g/kg at {} (common practice), and the day's first meal after it.",
-            hours_between(clock.wake, session.start),
-            time.format("%H:%M")
+            Dec(hours_between(clock.wake, session.start)),
+            time.format("%H:%M"),
+            g_per_kg = Dec(g_per_kg)
         );
         return before;
     }
@@ -416,7 +418,8 @@ fn before_session(
     before.suggested_g = g_per_kg * body_mass_kg;
     before.note = format!(
         "Over 60 min: 1-4 g/kg 1-4 h before; suggested {g_per_kg:.1} g/kg at {}.",
-        suggested.format("%H:%M")
+        suggested.format("%H:%M"),
+        g_per_kg = Dec(g_per_kg)
     );
     before
 }
@@ -464,7 +467,7 @@ fn after_session(
                 format!(
                     "Only {gap:.1} h between '{}' and the next session: the 4 h of speedy refuelling and the next pre-session meal (1-4 h before) collide; {} hourly feed(s) planned, which double as pre-session fuel.",
                     session.title,
-                    feed_times.len()
+                    feed_times.len(), gap = Dec(gap)
                 ),
             )
             .for_session(session.session_id),
@@ -477,7 +480,8 @@ fn after_session(
         planned_carbohydrate_g: g_per_feed * feed_times.len() as f64,
         note: format!(
             "Next session in {gap:.1} h (under 8 h): speedy refuelling 1.0-1.2 g/kg/h for up to 4 h, planned as {} hourly feed(s) of 1.0 g/kg from the end of the session.",
-            feed_times.len()
+            feed_times.len(),
+            gap = Dec(gap)
         ),
         feed_times,
         g_per_feed,

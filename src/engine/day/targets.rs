@@ -24,6 +24,7 @@
 //! work, the curve is increasing, and each competition rule is a clamp into a
 //! fixed range.
 
+use crate::engine::decimal::Dec;
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
 
@@ -286,12 +287,18 @@ pub fn daily_carbohydrate(
     let sessions = load.driving_sessions.clone();
     let demand_text = format!(
         "fuel demand {demand:.2} g/kg (today's sessions oxidise {:.2} g/kg, tomorrow's key work counts {:.2} g/kg, {:.2} g/kg of working-muscle glycogen to restore)",
-        load.carbohydrate_oxidised_g_per_kg,
-        load.next_day_key_carbohydrate_g_per_kg,
-        load.glycogen_to_restore_g_per_kg
+        Dec(load.carbohydrate_oxidised_g_per_kg),
+        Dec(load.next_day_key_carbohydrate_g_per_kg),
+        Dec(load.glycogen_to_restore_g_per_kg),
+        demand = Dec(demand)
     );
     let curve_text = format!(
-        "{WORK_CURVE_FLOOR:.0} + {WORK_CURVE_SPAN:.0} x (1 - e^(-{demand:.2}/{WORK_CURVE_SCALE:.0})) = {curve:.2} g/kg"
+        "{WORK_CURVE_FLOOR:.0} + {WORK_CURVE_SPAN:.0} x (1 - e^(-{demand:.2}/{WORK_CURVE_SCALE:.0})) = {curve:.2} g/kg",
+        WORK_CURVE_FLOOR = Dec(WORK_CURVE_FLOOR),
+        WORK_CURVE_SPAN = Dec(WORK_CURVE_SPAN),
+        demand = Dec(demand),
+        WORK_CURVE_SCALE = Dec(WORK_CURVE_SCALE),
+        curve = Dec(curve)
     );
     let range = load.band_range;
     let decision = CarbohydrateDecision {
@@ -311,8 +318,8 @@ pub fn daily_carbohydrate(
                 "Fuel for the work"
             },
             load.band.name(),
-            range.min,
-            range.max,
+            Dec(range.min),
+            Dec(range.max),
         ),
         source: format!(
             "{THOMAS_2016} (load bands); the work curve through them is our calibration (common practice: fuel for the work required)"
@@ -349,7 +356,10 @@ pub fn daily_carbohydrate(
             sessions: with(sessions, event.reference(day)),
             text: format!(
                 "Carbohydrate loading for '{}' ({:.0} min, over 90 min, loading enabled) within the {:.0} h before it: the work curve ({curve_text}) held inside 10-12 g/kg: {value:.2} g/kg",
-                event.title, event.minutes, upcoming.loading_hours
+                event.title,
+                Dec(event.minutes),
+                Dec(upcoming.loading_hours),
+                value = Dec(value)
             ),
             source: format!(
                 "{THOMAS_2016} (carbohydrate loading 10-12 g/kg for 36-48 h, from memory)"
@@ -369,7 +379,9 @@ pub fn daily_carbohydrate(
             sessions: with(sessions, event.reference(RelativeDay::NextDay)),
             text: format!(
                 "General fuelling up for '{}' ({:.0} min competition) tomorrow: {demand_text}; the work curve ({curve_text}) held inside 7-12 g/kg: {value:.2} g/kg",
-                event.title, event.minutes
+                event.title,
+                Dec(event.minutes),
+                value = Dec(value)
             ),
             source: format!("{THOMAS_2016} (general fuelling up 7-12 g/kg per 24 h, from memory)"),
         };
@@ -403,7 +415,7 @@ pub fn daily_carbohydrate(
             sessions: with(sessions, event.reference(day)),
             text: format!(
                 "Team-sport match '{}' {when}: {demand_text}; the work curve ({curve_text}) held inside 6-8 g/kg for match day and the day before: {value:.2} g/kg",
-                event.title,
+                event.title, value = Dec(value),
             ),
             source: "Expert group statement on nutrition in elite football (2021), 6-8 g/kg on match day and the day before [from memory]".into(),
         };

@@ -3,6 +3,7 @@
 //! energy availability, body-mass change faster than the safe rate.
 
 use super::*;
+use crate::engine::decimal::Dec;
 
 impl Planner<'_> {
     // ------------------------------------------------------------ warnings
@@ -56,9 +57,9 @@ impl Planner<'_> {
                         } else {
                             "key session"
                         },
-                        start.muscle_fraction * 100.0,
-                        start.muscle_g,
-                        thresholds.key_session_min_muscle_fraction * 100.0,
+                        Dec(start.muscle_fraction * 100.0),
+                        Dec(start.muscle_g),
+                        Dec(thresholds.key_session_min_muscle_fraction * 100.0),
                         before.map_or(String::new(), |s| format!(
                             " after '{}' on {}",
                             s.title,
@@ -67,7 +68,7 @@ impl Planner<'_> {
                     );
                     warning.fix = format!(
                         "About {:.0} g more muscle glycogen is needed. Raise carbohydrate in the 24-36 h before (for example pin {} at 8-10 g/kg, inside the high-load range of Thomas, Erdman & Burke 2016){}; or move '{}' later or lighten the work before it.",
-                        target_g - start.muscle_g,
+                        Dec(target_g - start.muscle_g),
                         (session.start.date() - TimeDelta::days(1)).format("%a %d %b"),
                         before.map_or(String::new(), |s| format!(
                             ", and plan speedy refuelling (1.0-1.2 g/kg/h for the first 4 h) after '{}'",
@@ -91,9 +92,9 @@ impl Planner<'_> {
                     warning.cause = format!(
                         "'{}' ends with estimated muscle glycogen at {:.0}% of normal stores ({:.0} g used, {:.0}% at the start): the working muscles are likely close to empty and performance late in the session suffers.",
                         session.title,
-                        end.muscle_fraction * 100.0,
-                        session.fuel_summary.muscle_glycogen_used_g,
-                        start.muscle_fraction * 100.0
+                        Dec(end.muscle_fraction * 100.0),
+                        Dec(session.fuel_summary.muscle_glycogen_used_g),
+                        Dec(start.muscle_fraction * 100.0)
                     );
                     warning.fix = format!(
                         "Start '{}' with fuller stores (more carbohydrate in the 24 h before), take carbohydrate during it (30-60 g/h over 75 min, up to 90 g/h over 2.5 h), or shorten its hard part; refuel with 1.0-1.2 g/kg/h for the first 4 h after.",
@@ -114,8 +115,8 @@ impl Planner<'_> {
                     warning.cause = format!(
                         "'{}' ends with estimated liver glycogen at {:.0}% of fed stores ({:.0} g): blood glucose may fall toward the end.",
                         session.title,
-                        end.liver_fraction * 100.0,
-                        end.liver_g
+                        Dec(end.liver_fraction * 100.0),
+                        Dec(end.liver_g)
                     );
                     warning.fix = format!(
                         "Plan 1-4 g/kg carbohydrate 1-4 h before '{}' (not after an overnight fast) and 30-60 g/h during it.",
@@ -212,7 +213,7 @@ impl Planner<'_> {
                 second_level.map_or(String::new(), |level| format!(
                     "; estimated muscle glycogen at the start of the second is {:.0}% of normal stores",
                     level.muscle_fraction * 100.0
-                )),
+                )), gap = Dec(gap),
             );
             let later = first.end() + TimeDelta::hours(limit as i64);
             warning.fix = format!(
@@ -261,15 +262,16 @@ impl Planner<'_> {
                 warning.until = Some(last.date);
                 warning.cause = format!(
                     "Planned energy availability is under {:.0} kcal/kg FFM/day (low) on {} days in a row, {} to {} (lowest {lowest:.1}): repeated low energy availability harms health and performance (relative energy deficiency in sport, IOC consensus).",
-                    ea.thresholds.low_below,
+                    Dec(ea.thresholds.low_below),
                     run.len(),
                     first.date,
-                    last.date
+                    last.date,
+                    lowest = Dec(lowest)
                 );
                 warning.fix = format!(
                     "Raise planned energy intake on these days by up to {:.0} kcal/day (to reach {:.0} kcal/kg FFM/day), reduce the planned body-mass deficit or lighten the training; review with a registered dietitian or a physician.",
-                    raise_kcal.ceil(),
-                    ea.thresholds.low_below
+                    Dec(raise_kcal.ceil()),
+                    Dec(ea.thresholds.low_below)
                 );
                 warnings.push(warning);
             }
@@ -316,10 +318,15 @@ impl Planner<'_> {
                         "lose"
                     } else {
                         "gain"
-                    }
+                    },
+                    rate = Dec(rate),
+                    percent = Dec(percent),
+                    max_percent = Dec(max_percent),
+                    safe = Dec(safe)
                 );
                 warning.fix = format!(
-                    "Set the goal rate to {safe:.2} kg/week or less and plan the change over more weeks, supervised by a registered dietitian."
+                    "Set the goal rate to {safe:.2} kg/week or less and plan the change over more weeks, supervised by a registered dietitian.",
+                    safe = Dec(safe)
                 );
                 warnings.push(warning);
             }
@@ -348,10 +355,17 @@ impl Planner<'_> {
                 );
                 warning.cause = format!(
                     "Planned body mass goes from {:.1} kg on {} to {:.1} kg on {}: {percent:.1}% of body mass per week, faster than {max_percent:.1}% (common practice: about 0.5-1%).",
-                    previous.1, previous.0, entry.body_mass_kg, entry.date
+                    Dec(previous.1),
+                    previous.0,
+                    Dec(entry.body_mass_kg),
+                    entry.date,
+                    percent = Dec(percent),
+                    max_percent = Dec(max_percent)
                 );
                 warning.fix = format!(
-                    "Spread the change over at least {weeks:.0} weeks (no more than {max_percent:.1}% per week), supervised by a registered dietitian."
+                    "Spread the change over at least {weeks:.0} weeks (no more than {max_percent:.1}% per week), supervised by a registered dietitian.",
+                    weeks = Dec(weeks),
+                    max_percent = Dec(max_percent)
                 );
                 warnings.push(warning);
             }
