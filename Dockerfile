@@ -16,9 +16,12 @@ RUN useradd --system --uid 10001 --home-dir /data --shell /usr/sbin/nologin glyc
 COPY --from=build /src/target/release/glycoweek /usr/local/bin/glycoweek
 USER glycoweek
 WORKDIR /data
+# MIMALLOC_PURGE_DELAY=0: the allocator returns freed memory at once
+# (lower peak RSS at the same speed; README, Performance).
 ENV GLYCOWEEK_LISTEN=0.0.0.0:8080 \
     GLYCOWEEK_DATABASE=/data/glycoweek.db \
-    GLYCOWEEK_LOG_FORMAT=json
+    GLYCOWEEK_LOG_FORMAT=json \
+    MIMALLOC_PURGE_DELAY=0
 EXPOSE 8080
 VOLUME ["/data"]
 HEALTHCHECK --interval=30s --timeout=5s --start-period=10s --retries=3 \

@@ -13,6 +13,12 @@ use glycoweek::{AppState, demo};
 use tokio::net::TcpListener;
 use uuid::Uuid;
 
+/// mimalloc instead of the system allocator: planning allocates and frees
+/// many small strings and vectors per day, which glibc's allocator handles
+/// slowly (see the README's Performance section).
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 #[derive(Parser)]
 #[command(
     name = "glycoweek",
