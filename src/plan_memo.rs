@@ -71,13 +71,20 @@ impl<K: Hash + Eq + Clone, V: Clone> Lru<K, V> {
         Some(value.clone())
     }
 
-    fn insert(&mut self, key: K, value: V, bytes: usize) {
+    /// Inserts and evicts down to 90% of the budget. The values put out
+    /// are returned, so the caller drops them (freeing whole days and plans
+    /// takes a while) after it releases the lock.
+    #[must_use]
+    fn insert(&mut self, key: K, value: V, bytes: usize) -> Vec<V> {
+        let mut out = Vec::new();
         if bytes > self.max_bytes {
-            return;
+            out.push(value);
+            return out;
         }
         self.clock += 1;
-        if let Some((_, old, _)) = self.entries.insert(key, (value, bytes, self.clock)) {
+        if let Some((old_value, old, _)) = self.entries.insert(key, (value, bytes, self.clock)) {
             self.bytes -= old;
+            out.push(old_value);
         }
         self.bytes += bytes;
         if self.bytes > self.max_bytes {
@@ -92,11 +99,13 @@ impl<K: Hash + Eq + Clone, V: Clone> Lru<K, V> {
                 if self.bytes <= target {
                     break;
                 }
-                if let Some((_, weight, _)) = self.entries.remove(&key) {
+                if let Some((value, weight, _)) = self.entries.remove(&key) {
                     self.bytes -= weight;
+                    out.push(value);
                 }
             }
         }
+        out
     }
 }
 
@@ -176,7 +185,8 @@ impl PlanMemo {
             return Ok(Arc::new(plan));
         };
         let plan = Arc::new(plan);
-        lock(&self.plans).insert(key, plan.clone(), bytes + 64);
+        // Evicted entries are freed after the lock is released.
+        let _evicted = lock(&self.plans).insert(key, plan.clone(), bytes + 64);
         Ok(plan)
     }
 
@@ -219,7 +229,7 @@ impl DayReuse for PlanMemo {
             }
         };
         let bytes = outcome.estimated_bytes(day_bytes) + 64;
-        lock(&self.days).insert(key, outcome, bytes);
+        let _evicted = lock(&self.days).insert(key, outcome, bytes);
     }
 
     fn forecast(&self, key: &DayKey) -> Option<SessionWork> {
@@ -228,7 +238,7 @@ impl DayReuse for PlanMemo {
 
     fn keep_forecast(&self, key: DayKey, work: SessionWork) {
         let bytes = 256 + work.title.len();
-        lock(&self.forecasts).insert(key, work, bytes);
+        let _evicted = lock(&self.forecasts).insert(key, work, bytes);
     }
 }
 
