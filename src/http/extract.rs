@@ -86,6 +86,18 @@ pub fn parse_json<T: DeserializeOwned>(bytes: &[u8]) -> Result<T, ApiError> {
     }
 }
 
+/// The rejection of `bytes` as a `T`, if its first error is an unknown field.
+pub fn unknown_field<T: DeserializeOwned>(bytes: &[u8]) -> Option<ApiError> {
+    let de = &mut serde_json::Deserializer::from_slice(bytes);
+    let err = serde_path_to_error::deserialize::<_, T>(&mut *de).err()?;
+    let path = err.path().to_string();
+    let message = err.into_inner().to_string();
+    message.starts_with("unknown field").then(|| {
+        let field = if path == "." { String::new() } else { path };
+        ApiError::field(field, clean_serde_message(&message))
+    })
+}
+
 /// serde's messages end with " at line L column C"; the path already says where.
 fn clean_serde_message(message: &str) -> String {
     match message.rfind(" at line ") {

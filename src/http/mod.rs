@@ -164,10 +164,70 @@ pub fn apply_merge_patch<T: Serialize + DeserializeOwned>(
     if !patch.is_object() {
         return Err(ApiError::field("", "a merge patch must be a JSON object"));
     }
-    let mut target = serde_json::to_value(current).map_err(ApiError::internal)?;
+    let original = serde_json::to_value(current).map_err(ApiError::internal)?;
+    let mut target = original.clone();
     merge(&mut target, patch);
     let bytes = serde_json::to_vec(&target).map_err(ApiError::internal)?;
-    extract::parse_json(&bytes)
+    let merged = extract::parse_json(&bytes)?;
+    // A null removes a member (RFC 7396), so a null for a member the current
+    // value does not have changes nothing and its name never reaches the parse
+    // above: `{"shoe_size": null}` would be accepted. Each such name is tried
+    // on its own, set to null in the merged document; only an unknown-field
+    // rejection counts (a null for a known optional member is a removal, and a
+    // type error for a known required one is not what the caller asked).
+    let mut absent = Vec::new();
+    nulls_for_absent_members(&original, patch, &mut Vec::new(), &mut absent);
+    for path in absent {
+        let mut probe = target.clone();
+        set_null(&mut probe, &path);
+        let bytes = serde_json::to_vec(&probe).map_err(ApiError::internal)?;
+        if let Some(unknown) = extract::unknown_field::<T>(&bytes) {
+            return Err(unknown);
+        }
+    }
+    Ok(merged)
+}
+
+/// Paths of the patch's null members that `target` does not have.
+fn nulls_for_absent_members(
+    target: &serde_json::Value,
+    patch: &serde_json::Value,
+    prefix: &mut Vec<String>,
+    found: &mut Vec<Vec<String>>,
+) {
+    let serde_json::Value::Object(fields) = patch else {
+        return;
+    };
+    for (key, value) in fields {
+        let present = target.get(key);
+        prefix.push(key.clone());
+        match (value, present) {
+            (serde_json::Value::Null, None) => found.push(prefix.clone()),
+            (serde_json::Value::Object(_), Some(inner)) => {
+                nulls_for_absent_members(inner, value, prefix, found)
+            }
+            // A new object member is merged whole: its nulls are dropped, and
+            // the member's own name is checked by the parse of the merge.
+            (serde_json::Value::Object(_), None) => {
+                nulls_for_absent_members(&serde_json::Value::Null, value, prefix, found)
+            }
+            _ => {}
+        }
+        prefix.pop();
+    }
+}
+
+fn set_null(document: &mut serde_json::Value, path: &[String]) {
+    let mut at = document;
+    for key in &path[..path.len() - 1] {
+        match at.get_mut(key) {
+            Some(inner) if inner.is_object() => at = inner,
+            _ => return,
+        }
+    }
+    if let (Some(map), Some(last)) = (at.as_object_mut(), path.last()) {
+        map.insert(last.clone(), serde_json::Value::Null);
+    }
 }
 
 fn merge(target: &mut serde_json::Value, patch: &serde_json::Value) {

@@ -665,6 +665,47 @@ async fn a_merge_patch_that_sets_a_required_field_to_null_is_a_422() {
 }
 
 #[tokio::test]
+async fn a_merge_patch_null_for_an_unknown_member_is_a_422_at_any_depth() {
+    let app = spawn_app().await;
+    let team = app.team("Unknown nulls").await;
+    let athlete = app.athlete(team, "Nulls").await;
+    let path = format!("/v1/athletes/{athlete}");
+    for (patch, field) in [
+        (json!({"shoe_size": null}), "shoe_size"),
+        (
+            json!({"vo2max": {"method": "measured", "ml_per_kg_min": 55.0, "colour": null}}),
+            // The tagged VO2max source is read as a whole, so the member at
+            // fault is `vo2max` and the reason names `colour` (as without null).
+            "vo2max",
+        ),
+    ] {
+        let p = problem(app.patch(&path, &app.admin, &patch, None).await, 422).await;
+        assert_eq!(fields(&p), vec![field], "{patch}: {p}");
+        let reason = p["errors"][0]["reason"].as_str().unwrap();
+        assert!(reason.contains("unknown field"), "{p}");
+        assert!(
+            reason.contains("`colour`") || reason.contains("`shoe_size`"),
+            "{p}"
+        );
+    }
+    let stored = glycoweek::store::athletes::get(&app.db, athlete)
+        .await
+        .unwrap()
+        .unwrap();
+    assert_eq!(stored.version, 1);
+    // Nulls for known optional members the athlete lacks remove nothing.
+    let res = app
+        .patch(
+            &path,
+            &app.admin,
+            &json!({"hr_rest": null, "vo2max": null}),
+            None,
+        )
+        .await;
+    assert_eq!(res.status(), 200);
+}
+
+#[tokio::test]
 async fn a_patch_is_validated_like_a_create() {
     let app = spawn_app().await;
     let team = app.team("Patch rules").await;

@@ -384,12 +384,36 @@ async fn a_session_patch_that_nulls_its_segments_or_breaks_a_rule_is_rejected() 
     )
     .await;
     assert_eq!(fields(&p), vec!["start_time"]);
+    // A null for a member the session does not have would remove nothing, but
+    // a name the schema does not know is still an unknown field (RFC 7396 keeps
+    // the document's own schema; ours has no additional properties).
+    for (patch, field) in [
+        (json!({"": null}), ""),
+        (json!({"shoe_size": null}), "shoe_size"),
+        (json!({"start_time": "18:00", "colour": null}), "colour"),
+    ] {
+        let p = problem(app.patch(&path, &app.admin, &patch, None).await, 422).await;
+        assert_eq!(fields(&p), vec![field], "{patch}: {p}");
+        assert!(
+            p["errors"][0]["reason"]
+                .as_str()
+                .unwrap()
+                .contains("unknown field"),
+            "{p}"
+        );
+    }
     let stored = glycoweek::store::sessions::get(&app.db, id)
         .await
         .unwrap()
         .unwrap();
     assert_eq!(stored.version, 1);
     assert_eq!(stored.segments.len(), 2);
+    // A null for a known optional member the session lacks is a removal of
+    // nothing: accepted, and the session is written unchanged apart from it.
+    let ok = app
+        .patch(&path, &app.admin, &json!({"notes": null}), None)
+        .await;
+    assert_eq!(ok.status(), 200);
 }
 
 #[tokio::test]
