@@ -107,8 +107,34 @@ enum TokenCommand {
 
 const CLI: Actor = Actor { token_id: None };
 
-#[tokio::main]
-async fn main() -> ExitCode {
+fn main() -> ExitCode {
+    no_transparent_huge_pages();
+    match tokio::runtime::Builder::new_multi_thread()
+        .enable_all()
+        .build()
+    {
+        Ok(runtime) => runtime.block_on(run()),
+        Err(e) => {
+            eprintln!("error: could not start the async runtime: {e}");
+            ExitCode::FAILURE
+        }
+    }
+}
+
+/// Turns transparent huge pages off for this process, before the runtime
+/// starts its threads. mimalloc asks for huge pages on its larger OS
+/// allocations, and where the kernel grants them (`madvise` mode, the common
+/// default) each 2 MiB page is resident as a whole however little of it is
+/// used: about 20 MiB of the idle footprint and of the peak under load,
+/// with no measurable gain in speed here (README, Performance).
+fn no_transparent_huge_pages() {
+    #[cfg(target_os = "linux")]
+    if let Err(e) = nix::sys::prctl::set_thp_disable(true) {
+        eprintln!("note: could not turn transparent huge pages off ({e}); memory use may be higher");
+    }
+}
+
+async fn run() -> ExitCode {
     let cli = Cli::parse();
     let result = match cli.command {
         None => serve(cli.serve).await,
