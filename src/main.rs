@@ -130,7 +130,9 @@ fn main() -> ExitCode {
 fn no_transparent_huge_pages() {
     #[cfg(target_os = "linux")]
     if let Err(e) = nix::sys::prctl::set_thp_disable(true) {
-        eprintln!("note: could not turn transparent huge pages off ({e}); memory use may be higher");
+        eprintln!(
+            "note: could not turn transparent huge pages off ({e}); memory use may be higher"
+        );
     }
 }
 

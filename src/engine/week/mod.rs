@@ -70,7 +70,7 @@ use utoipa::ToSchema;
 use uuid::Uuid;
 
 use crate::engine::day::energy_availability::EnergyAvailabilityBand;
-use crate::engine::day::notes::{Severity, WarningCode};
+use crate::engine::day::notes::{Severity, Warning, WarningCode};
 use crate::engine::day::occasions::EatingOccasion;
 use crate::engine::day::plan::{DayInput, DayPlan, Explain, plan_day_with};
 use crate::engine::day::session_fuelling::{
@@ -382,6 +382,7 @@ impl<'a> Planner<'a> {
         let mut series = Vec::with_capacity(span as usize * 26);
         let mut session_records: Vec<Option<WeekSession>> = vec![None; input.sessions.len()];
         let mut day_sessions: Vec<Vec<usize>> = Vec::with_capacity(span as usize);
+        let mut athlete_level = Vec::new();
 
         for date in first_day.iter_days().take(simulated as usize) {
             let in_span = date >= input.from;
@@ -394,6 +395,8 @@ impl<'a> Planner<'a> {
                 (Some(key), Some(reuse)) => reuse.day(&key),
                 _ => None,
             };
+            // Days and their plans are shared with the memo: the clone
+            // copies the day's small parts and counts references to the rest.
             let outcome = match kept {
                 Some(kept) => DayOutcome::clone(&kept),
                 None => {
@@ -413,6 +416,7 @@ impl<'a> Planner<'a> {
                 let index = today[place];
                 let session = &input.sessions[index];
                 self.simulated_work[index] = Some(self.work(index, &fuel));
+                let summary = SessionFuelSummary::of(&fuel);
                 session_records[index] = Some(WeekSession {
                     session_id: session.session_id,
                     title: session.title.clone(),
@@ -424,8 +428,10 @@ impl<'a> Planner<'a> {
                     glycogen_at_start: level,
                     // Replaced when the session's end is reached.
                     glycogen_at_end: level,
-                    fuel_summary: SessionFuelSummary::of(&fuel),
-                    fuel: input.include_session_fuel.then_some(fuel),
+                    fuel_summary: summary,
+                    fuel: input
+                        .include_session_fuel
+                        .then(|| std::sync::Arc::unwrap_or_clone(fuel)),
                 });
             }
             for (from_yesterday, place, level) in outcome.ends {
@@ -443,6 +449,9 @@ impl<'a> Planner<'a> {
                 continue;
             }
             series.extend(outcome.series);
+            if let Some(day) = &outcome.day {
+                athlete_level.push((day.date, outcome.athlete_level));
+            }
             day_sessions.push(today);
             days.extend(outcome.day);
         }
@@ -460,7 +469,7 @@ impl<'a> Planner<'a> {
                 .collect();
         }
 
-        let athlete_warnings = athlete_warnings(&mut days);
+        let athlete_warnings = athlete_warnings(athlete_level);
         let warnings = self.warnings(&days);
         let mut cautions = vec![GLYCOGEN_CAUTION.to_string()];
         for day in &days {
@@ -488,8 +497,8 @@ impl<'a> Planner<'a> {
 }
 
 /// Day-plan warnings that are about the athlete, not the day: moved out of
-/// each day into one entry per code for the span.
-const ATHLETE_LEVEL: [WarningCode; 6] = [
+/// each day (as it is computed) into one entry per code for the span.
+pub(super) const ATHLETE_LEVEL: [WarningCode; 6] = [
     WarningCode::BodyMassLossNotPlannedUnder18,
     WarningCode::FatFreeMassEstimated,
     WarningCode::UnderEighteen,
@@ -498,14 +507,13 @@ const ATHLETE_LEVEL: [WarningCode; 6] = [
     WarningCode::EnergyAvailabilityReduced,
 ];
 
-fn athlete_warnings(days: &mut [WeekDay]) -> Vec<AthleteWarning> {
+/// One entry per code and severity for the span, from each shown day's
+/// athlete-level warnings (in date order): the first day's message, and
+/// every date.
+fn athlete_warnings(by_day: Vec<(NaiveDate, Vec<Warning>)>) -> Vec<AthleteWarning> {
     let mut out: Vec<AthleteWarning> = Vec::new();
-    for day in days.iter_mut() {
-        let date = day.date;
-        day.plan.warnings.retain(|warning| {
-            if !ATHLETE_LEVEL.contains(&warning.code) {
-                return true;
-            }
+    for (date, warnings) in by_day {
+        for warning in warnings {
             match out
                 .iter_mut()
                 .find(|w| w.code == warning.code && w.severity == warning.severity)
@@ -518,12 +526,11 @@ fn athlete_warnings(days: &mut [WeekDay]) -> Vec<AthleteWarning> {
                 None => out.push(AthleteWarning {
                     code: warning.code,
                     severity: warning.severity,
-                    message: warning.message.clone(),
+                    message: warning.message,
                     dates: vec![date],
                 }),
             }
-            false
-        });
+        }
     }
     out
 }

@@ -63,13 +63,15 @@ impl Planner<'_> {
         } else {
             Explain::No
         };
-        let plan = self.plan(&day_input, explain)?;
+        let mut plan = self.plan(&day_input, explain)?;
         let run = self.simulate_day(&timeline, date, &plan.eating_occasions, today, athlete)?;
         let place = |list: &[usize], index: usize| list.iter().position(|&i| i == index);
         let starts = run
             .starts
             .into_iter()
-            .filter_map(|(index, level, fuel)| Some((place(today, index)?, level, fuel)))
+            .filter_map(|(index, level, fuel)| {
+                Some((place(today, index)?, level, std::sync::Arc::new(fuel)))
+            })
             .collect();
         let ends = run
             .ends
@@ -79,6 +81,18 @@ impl Planner<'_> {
                 None => place(&yesterday, index).map(|k| (true, k, level)),
             })
             .collect();
+        // Warnings about the athlete leave the shown day here, so the day's
+        // plan is final and can be shared; the week lists them once.
+        let mut athlete_level = Vec::new();
+        if in_span {
+            plan.warnings.retain(|warning| {
+                let about_athlete = ATHLETE_LEVEL.contains(&warning.code);
+                if about_athlete {
+                    athlete_level.push(warning.clone());
+                }
+                !about_athlete
+            });
+        }
         let day = in_span.then(|| WeekDay {
             date,
             body_mass_kg: self.mass_on(date),
@@ -87,12 +101,13 @@ impl Planner<'_> {
             glycogen_at_end: GlycogenLevel::of(&run.timeline.stores, &capacity),
             glycogen_flows: run.flows,
             sessions: Vec::new(),
-            plan,
+            plan: std::sync::Arc::new(plan),
         });
         Ok(DayOutcome {
             timeline: StoredTimeline::of(&run.timeline, today),
             start_assumption,
             day,
+            athlete_level,
             series: if in_span { run.series } else { Vec::new() },
             starts,
             ends,

@@ -128,7 +128,9 @@ pub struct WeekDay {
     /// The day's sessions in start order.
     pub sessions: Vec<WeekSession>,
     /// Targets, eating occasions, explanations, day warnings, cautions.
-    pub plan: DayPlan,
+    // Shared, not copied, between the plans and the memo that reuse the day.
+    #[schema(value_type = DayPlan)]
+    pub plan: std::sync::Arc<DayPlan>,
 }
 
 /// One point of the glycogen series (estimates, rounded to 0.1 g).

@@ -53,8 +53,11 @@ pub struct DayOutcome {
     /// The day as shown (days inside the span), without its sessions.
     pub(super) day: Option<WeekDay>,
     pub(super) series: Vec<GlycogenPoint>,
+    /// The shown day's warnings about the athlete rather than the day,
+    /// taken out of its plan (the week lists them once for the span).
+    pub(super) athlete_level: Vec<crate::engine::day::notes::Warning>,
     /// Sessions started today: place, level at the start, simulation.
-    pub(super) starts: Vec<(usize, GlycogenLevel, SessionFuel)>,
+    pub(super) starts: Vec<(usize, GlycogenLevel, Arc<SessionFuel>)>,
     /// Sessions ended today: yesterday's (`true`) or today's, place, level.
     pub(super) ends: Vec<(bool, usize, GlycogenLevel)>,
 }
