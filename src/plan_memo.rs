@@ -5,8 +5,8 @@
 //!   changes the input of the athletes it reaches only, so the next plan
 //!   reuses the others' plans as they are. A change that reaches no
 //!   athlete's input (a session's notes, say) recomputes nothing. The key is
-//!   the input's JSON; an entry is used only when the stored JSON equals the
-//!   new one byte for byte. Plans are shared (`Arc`), never copied out.
+//!   a SHA-256 digest of the whole input ([`DayKeys::input_key`], over a
+//!   prefix-free binary form of it). Plans are shared (`Arc`), never copied out.
 //! - **Simulated days and session forecasts** ([`DayReuse`]): an athlete
 //!   whose input changed is planned with
 //!   [`crate::engine::week::plan_week_reusing`], which takes each day whose

@@ -97,6 +97,7 @@ pub const MAX_SESSIONS: usize = 2000;
 /// Longest clock duration of a session, minutes (as the day planner).
 pub const MAX_CLOCK_MINUTES: f64 = 720.0;
 
+mod digest;
 mod input;
 mod one_day;
 mod output;

@@ -127,36 +127,21 @@ pub struct DayKeys {
     shared: DayKey,
     /// The profile alone (what a forecast reads besides the session).
     profile: DayKey,
-    /// Each input session's JSON, hashed.
+    /// Each input session, hashed.
     sessions: Vec<DayKey>,
 }
 
-/// Feeds what is written to it into a hash.
-struct HashWriter<'h>(&'h mut Sha256);
-
-impl std::io::Write for HashWriter<'_> {
-    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
-        self.0.update(buf);
-        Ok(buf.len())
-    }
-    fn flush(&mut self) -> std::io::Result<()> {
-        Ok(())
-    }
+/// Hashes `value` in the tagged binary form of [`super::digest`]
+/// (prefix-free, so distinct values give distinct bytes).
+fn put_value<T: Serialize + ?Sized>(hasher: &mut Sha256, value: &T) {
+    let mut bytes = Vec::with_capacity(512);
+    super::digest::write(&mut bytes, value);
+    hasher.update(&bytes);
 }
 
-/// Hashes `value`'s JSON (self-describing, so distinct values give
-/// distinct bytes), written straight into the hash. The engine's inputs are
-/// plain data: serialising them cannot fail.
-fn put_json<T: Serialize + ?Sized>(hasher: &mut Sha256, value: &T) {
-    let _ = serde_json::to_writer(
-        std::io::BufWriter::with_capacity(512, HashWriter(hasher)),
-        value,
-    );
-}
-
-fn sha_json<T: Serialize + ?Sized>(value: &T) -> DayKey {
+fn sha_value<T: Serialize + ?Sized>(value: &T) -> DayKey {
     let mut h = Sha256::new();
-    put_json(&mut h, value);
+    put_value(&mut h, value);
     h.finalize().into()
 }
 
@@ -174,14 +159,14 @@ impl DayKeys {
     pub fn new(input: &WeekInput, model: &GlycogenModel) -> Self {
         let mut shared = Sha256::new();
         shared.update(b"glycoweek day v1\0");
-        put_json(&mut shared, &input.athlete_id);
-        put_json(&mut shared, &input.profile);
-        put_json(&mut shared, &input.settings);
-        put_json(&mut shared, &input.health_flags);
-        put_json(&mut shared, &input.start_glycogen);
-        put_json(&mut shared, &input.thresholds);
-        put_json(&mut shared, model);
-        put_json(
+        put_value(&mut shared, &input.athlete_id);
+        put_value(&mut shared, &input.profile);
+        put_value(&mut shared, &input.settings);
+        put_value(&mut shared, &input.health_flags);
+        put_value(&mut shared, &input.start_glycogen);
+        put_value(&mut shared, &input.thresholds);
+        put_value(&mut shared, model);
+        put_value(
             &mut shared,
             &(
                 input.from,
@@ -192,8 +177,8 @@ impl DayKeys {
         );
         Self {
             shared: shared.finalize().into(),
-            profile: sha_json(&input.profile),
-            sessions: input.sessions.iter().map(sha_json).collect(),
+            profile: sha_value(&input.profile),
+            sessions: input.sessions.iter().map(sha_value).collect(),
         }
     }
 
@@ -246,7 +231,7 @@ impl DayKeys {
         }
         // Yesterday's sessions as simulated (the day planner reads them).
         for &index in &yesterday {
-            put_json(&mut h, &planner.simulated_work[index]);
+            put_value(&mut h, &planner.simulated_work[index]);
         }
         // The sessions of yesterday, today and the next two days, in order,
         // and the body mass of each of those days.
@@ -259,7 +244,7 @@ impl DayKeys {
             }
             put_f64(&mut h, planner.mass_on(day));
         }
-        put_json(&mut h, &planner.pins.get(&date));
+        put_value(&mut h, &planner.pins.get(&date));
         h.finalize().into()
     }
 
@@ -268,9 +253,9 @@ impl DayKeys {
         let mut h = Sha256::new();
         h.update(b"glycoweek plan v1\0");
         h.update(self.shared);
-        put_json(&mut h, &(input.to, input.carry_from));
-        put_json(&mut h, &input.body_mass_by_date);
-        put_json(&mut h, &input.pins);
+        put_value(&mut h, &(input.to, input.carry_from));
+        put_value(&mut h, &input.body_mass_by_date);
+        put_value(&mut h, &input.pins);
         h.update((self.sessions.len() as u64).to_le_bytes());
         for session in &self.sessions {
             h.update(session);
