@@ -18,6 +18,7 @@ pub mod single_flight;
 pub mod targets;
 pub mod teams;
 pub mod tokens;
+mod wire;
 
 use axum::extract::State;
 use axum::http::{HeaderValue, StatusCode, header};
@@ -67,13 +68,26 @@ pub fn json<T: Serialize>(status: StatusCode, body: &T) -> Response {
     }
 }
 
-/// The bytes of a response body: [`output::shape`] (sources once, local
-/// times placed in `zone`), then floats rounded to 3 decimals.
+/// The bytes of a response body: [`output::shape`]'s rules (sources once,
+/// local times placed in `zone`) applied while writing ([`wire`]), floats
+/// rounded to 3 decimals.
 pub fn to_wire_bytes<T: Serialize>(
     body: &T,
     zone: Option<&chrono_tz::Tz>,
 ) -> Result<Vec<u8>, serde_json::Error> {
-    to_json_bytes(&output::shape(body, zone)?)
+    let shaping = wire::Shaping {
+        sources: Default::default(),
+        zone,
+        labels: output::enum_labels(),
+    };
+    let mut out = Vec::with_capacity(4096);
+    let mut ser = serde_json::Serializer::with_formatter(&mut out, RoundingFormatter);
+    body.serialize(wire::Shaper {
+        inner: &mut ser,
+        shaping: &shaping,
+        root: true,
+    })?;
+    Ok(out)
 }
 
 /// Serialises with floats rounded to 3 decimals, streaming (no value tree).

@@ -14,6 +14,9 @@
 //!   unchanged, so the time the athlete sees stays what was planned.
 //!
 //! `http/openapi.rs` describes both in the document with the same rules.
+//! Responses are written by [`super::wire`], which applies these rules in
+//! one streaming pass; [`shape`] builds the same document as a value tree
+//! and is the reference a test compares the streaming pass with.
 
 use std::collections::{HashMap, HashSet};
 use std::sync::OnceLock;
@@ -51,13 +54,13 @@ pub fn shape<T: Serialize>(
 }
 
 #[derive(Default)]
-struct Sources {
+pub(super) struct Sources {
     ids: HashMap<String, usize>,
-    texts: Vec<String>,
+    pub(super) texts: Vec<String>,
 }
 
 impl Sources {
-    fn id(&mut self, text: String) -> usize {
+    pub(super) fn id(&mut self, text: String) -> usize {
         if let Some(&id) = self.ids.get(&text) {
             return id;
         }
@@ -140,7 +143,7 @@ pub fn with_offset(s: &str, zone: &chrono_tz::Tz) -> Option<String> {
 
 /// Every enum value that a `source` property of the document can take:
 /// those are values, not citations.
-fn enum_labels() -> &'static HashSet<String> {
+pub(super) fn enum_labels() -> &'static HashSet<String> {
     static LABELS: OnceLock<HashSet<String>> = OnceLock::new();
     LABELS.get_or_init(|| {
         let (_, doc) = super::api_router().split_for_parts();
