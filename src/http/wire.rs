@@ -34,6 +34,22 @@ struct SourceEntry<'t> {
     text: &'t str,
 }
 
+/// The sources met, as the top-level `sources` list.
+struct SourceTable<'s>(&'s RefCell<Sources>);
+
+impl Serialize for SourceTable<'_> {
+    fn serialize<S: Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.collect_seq(
+            self.0
+                .borrow()
+                .texts
+                .iter()
+                .enumerate()
+                .map(|(id, text)| SourceEntry { id, text }),
+        )
+    }
+}
+
 /// A serializer that applies the rules and hands everything to `inner`.
 pub(super) struct Shaper<'s, 'a, S> {
     pub inner: S,
@@ -69,7 +85,7 @@ impl<'s, 'a> Shaping<'a> {
     /// The source id of `value` if it is a citation (a string that is not
     /// an enum label).
     fn citation<T: Serialize + ?Sized>(&self, value: &T) -> Option<usize> {
-        let text = value.serialize(StringProbe).ok()??;
+        let text = as_string(value)?;
         if self.labels.contains(&text) {
             return None;
         }
@@ -95,6 +111,13 @@ impl<'s, 'a, C> Compound<'s, 'a, C> {
             root,
             pending_key: None,
         }
+    }
+
+    /// The source table, at the end of the top-level object, if anything
+    /// was cited.
+    fn table(&self) -> Option<SourceTable<'s>> {
+        let sources = &self.shaping.sources;
+        (self.root && !sources.borrow().texts.is_empty()).then_some(SourceTable(sources))
     }
 }
 
@@ -330,12 +353,12 @@ impl<C: ser::SerializeMap> ser::SerializeMap for Compound<'_, '_, C> {
     type Error = C::Error;
     fn serialize_key<T: Serialize + ?Sized>(&mut self, key: &T) -> Result<(), C::Error> {
         // A string key waits for its value: a citation renames it.
-        match key.serialize(StringProbe) {
-            Ok(Some(text)) => {
+        match as_string(key) {
+            Some(text) => {
                 self.pending_key = Some(text);
                 Ok(())
             }
-            _ => self.inner.serialize_key(key),
+            None => self.inner.serialize_key(key),
         }
     }
     fn serialize_value<T: Serialize + ?Sized>(&mut self, value: &T) -> Result<(), C::Error> {
@@ -352,17 +375,8 @@ impl<C: ser::SerializeMap> ser::SerializeMap for Compound<'_, '_, C> {
         }
     }
     fn end(mut self) -> Result<C::Ok, C::Error> {
-        if self.root {
-            let sources = self.shaping.sources.borrow();
-            if !sources.texts.is_empty() {
-                let table: Vec<SourceEntry<'_>> = sources
-                    .texts
-                    .iter()
-                    .enumerate()
-                    .map(|(id, text)| SourceEntry { id, text })
-                    .collect();
-                self.inner.serialize_entry(SOURCES_FIELD, &table)?;
-            }
+        if let Some(table) = self.table() {
+            self.inner.serialize_entry(SOURCES_FIELD, &table)?;
         }
         self.inner.end()
     }
@@ -387,17 +401,8 @@ impl<C: ser::SerializeStruct> ser::SerializeStruct for Compound<'_, '_, C> {
         self.inner.skip_field(key)
     }
     fn end(mut self) -> Result<C::Ok, C::Error> {
-        if self.root {
-            let sources = self.shaping.sources.borrow();
-            if !sources.texts.is_empty() {
-                let table: Vec<SourceEntry<'_>> = sources
-                    .texts
-                    .iter()
-                    .enumerate()
-                    .map(|(id, text)| SourceEntry { id, text })
-                    .collect();
-                self.inner.serialize_field(SOURCES_FIELD, &table)?;
-            }
+        if let Some(table) = self.table() {
+            self.inner.serialize_field(SOURCES_FIELD, &table)?;
         }
         self.inner.end()
     }
@@ -426,154 +431,12 @@ impl<C: ser::SerializeStructVariant> ser::SerializeStructVariant for Compound<'_
     }
 }
 
-/// Reads a value as the string JSON would write, if it is one (a string,
-/// or a unit enum variant, which JSON writes as its name).
-struct StringProbe;
-
-#[derive(Debug)]
-struct NotAString;
-
-impl std::fmt::Display for NotAString {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.write_str("not a string")
-    }
-}
-
-impl std::error::Error for NotAString {}
-
-impl ser::Error for NotAString {
-    fn custom<T: std::fmt::Display>(_: T) -> Self {
-        NotAString
-    }
-}
-
-type Refuse = ser::Impossible<Option<String>, NotAString>;
-
-impl Serializer for StringProbe {
-    type Ok = Option<String>;
-    type Error = NotAString;
-    type SerializeSeq = Refuse;
-    type SerializeTuple = Refuse;
-    type SerializeTupleStruct = Refuse;
-    type SerializeTupleVariant = Refuse;
-    type SerializeMap = Refuse;
-    type SerializeStruct = Refuse;
-    type SerializeStructVariant = Refuse;
-
-    fn serialize_str(self, v: &str) -> Result<Option<String>, NotAString> {
-        Ok(Some(v.to_owned()))
-    }
-    fn serialize_unit_variant(
-        self,
-        _: &'static str,
-        _: u32,
-        variant: &'static str,
-    ) -> Result<Option<String>, NotAString> {
-        Ok(Some(variant.to_owned()))
-    }
-    fn serialize_newtype_struct<T: Serialize + ?Sized>(
-        self,
-        _: &'static str,
-        value: &T,
-    ) -> Result<Option<String>, NotAString> {
-        value.serialize(self)
-    }
-    fn serialize_bool(self, _: bool) -> Result<Option<String>, NotAString> {
-        Ok(None)
-    }
-    fn serialize_i8(self, _: i8) -> Result<Option<String>, NotAString> {
-        Ok(None)
-    }
-    fn serialize_i16(self, _: i16) -> Result<Option<String>, NotAString> {
-        Ok(None)
-    }
-    fn serialize_i32(self, _: i32) -> Result<Option<String>, NotAString> {
-        Ok(None)
-    }
-    fn serialize_i64(self, _: i64) -> Result<Option<String>, NotAString> {
-        Ok(None)
-    }
-    fn serialize_u8(self, _: u8) -> Result<Option<String>, NotAString> {
-        Ok(None)
-    }
-    fn serialize_u16(self, _: u16) -> Result<Option<String>, NotAString> {
-        Ok(None)
-    }
-    fn serialize_u32(self, _: u32) -> Result<Option<String>, NotAString> {
-        Ok(None)
-    }
-    fn serialize_u64(self, _: u64) -> Result<Option<String>, NotAString> {
-        Ok(None)
-    }
-    fn serialize_f32(self, _: f32) -> Result<Option<String>, NotAString> {
-        Ok(None)
-    }
-    fn serialize_f64(self, _: f64) -> Result<Option<String>, NotAString> {
-        Ok(None)
-    }
-    fn serialize_char(self, v: char) -> Result<Option<String>, NotAString> {
-        Ok(Some(v.to_string()))
-    }
-    fn serialize_bytes(self, _: &[u8]) -> Result<Option<String>, NotAString> {
-        Ok(None)
-    }
-    fn serialize_none(self) -> Result<Option<String>, NotAString> {
-        Ok(None)
-    }
-    fn serialize_some<T: Serialize + ?Sized>(
-        self,
-        value: &T,
-    ) -> Result<Option<String>, NotAString> {
-        // `Some("x")` is the string "x" in JSON.
-        value.serialize(self)
-    }
-    fn serialize_unit(self) -> Result<Option<String>, NotAString> {
-        Ok(None)
-    }
-    fn serialize_unit_struct(self, _: &'static str) -> Result<Option<String>, NotAString> {
-        Ok(None)
-    }
-    fn serialize_newtype_variant<T: Serialize + ?Sized>(
-        self,
-        _: &'static str,
-        _: u32,
-        _: &'static str,
-        _: &T,
-    ) -> Result<Option<String>, NotAString> {
-        Ok(None)
-    }
-    fn serialize_seq(self, _: Option<usize>) -> Result<Refuse, NotAString> {
-        Err(NotAString)
-    }
-    fn serialize_tuple(self, _: usize) -> Result<Refuse, NotAString> {
-        Err(NotAString)
-    }
-    fn serialize_tuple_struct(self, _: &'static str, _: usize) -> Result<Refuse, NotAString> {
-        Err(NotAString)
-    }
-    fn serialize_tuple_variant(
-        self,
-        _: &'static str,
-        _: u32,
-        _: &'static str,
-        _: usize,
-    ) -> Result<Refuse, NotAString> {
-        Err(NotAString)
-    }
-    fn serialize_map(self, _: Option<usize>) -> Result<Refuse, NotAString> {
-        Err(NotAString)
-    }
-    fn serialize_struct(self, _: &'static str, _: usize) -> Result<Refuse, NotAString> {
-        Err(NotAString)
-    }
-    fn serialize_struct_variant(
-        self,
-        _: &'static str,
-        _: u32,
-        _: &'static str,
-        _: usize,
-    ) -> Result<Refuse, NotAString> {
-        Err(NotAString)
+/// The string JSON would write for `value`, if it writes a string (a unit
+/// enum variant is written as its name).
+fn as_string<T: Serialize + ?Sized>(value: &T) -> Option<String> {
+    match serde_json::to_value(value) {
+        Ok(serde_json::Value::String(text)) => Some(text),
+        _ => None,
     }
 }
 
