@@ -17,7 +17,8 @@ COPY --from=build /src/target/release/glycoweek /usr/local/bin/glycoweek
 USER glycoweek
 WORKDIR /data
 # MIMALLOC_PURGE_DELAY=0: the allocator returns freed memory at once
-# (lower peak RSS at the same speed; README, Performance).
+# (10-15 MiB lower peak RSS; single runs served the mixed load somewhat
+# slower: README, Performance).
 ENV GLYCOWEEK_LISTEN=0.0.0.0:8080 \
     GLYCOWEEK_DATABASE=/data/glycoweek.db \
     GLYCOWEEK_LOG_FORMAT=json \
