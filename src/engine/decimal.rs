@@ -43,16 +43,36 @@ impl fmt::Display for Dec {
             let fraction = scaled - floor;
             if (fraction - 0.5).abs() > 1e-6 {
                 let n = floor as u64 + u64::from(fraction > 0.5);
-                let unit = POWERS[decimals] as u64;
-                return if decimals == 0 {
-                    write!(f, "{n}")
-                } else {
-                    write!(f, "{}.{:0width$}", n / unit, n % unit, width = decimals)
-                };
+                return f.write_str(digits(n, decimals, &mut [0; 24]));
             }
         }
         fmt::Display::fmt(&x, f)
     }
+}
+
+/// `n / 10^decimals` written with exactly `decimals` decimals, into the
+/// end of `buf` (`n` is below 10^9, so at most 17 bytes are used).
+fn digits(mut n: u64, decimals: usize, buf: &mut [u8; 24]) -> &str {
+    let mut pos = buf.len();
+    for _ in 0..decimals {
+        pos -= 1;
+        buf[pos] = b'0' + (n % 10) as u8;
+        n /= 10;
+    }
+    if decimals > 0 {
+        pos -= 1;
+        buf[pos] = b'.';
+    }
+    loop {
+        pos -= 1;
+        buf[pos] = b'0' + (n % 10) as u8;
+        n /= 10;
+        if n == 0 {
+            break;
+        }
+    }
+    // Only ASCII digits and a point were written.
+    std::str::from_utf8(&buf[pos..]).unwrap_or_default()
 }
 
 #[cfg(test)]

@@ -35,7 +35,7 @@ use crate::engine::day::session_work::validate_sessions;
 use crate::engine::day::targets::{
     CarbohydrateRule, DayLoad, FAT_MIN_SHARE, FAT_USUAL_MAX_SHARE, GramsPerKgRange,
     KCAL_PER_G_CARBOHYDRATE, KCAL_PER_G_FAT, KCAL_PER_G_PROTEIN, LoadBand, MacroRequest,
-    PROTEIN_RANGE, Upcoming, classify_day, daily_carbohydrate, daily_protein, fit_fat,
+    PROTEIN_RANGE, Upcoming, classify_day, daily_carbohydrate_with, daily_protein, fit_fat,
 };
 use crate::engine::profile::Sex;
 use crate::engine::{InvalidInput, Issues};
@@ -231,7 +231,8 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
             .and_time(NaiveTime::from_hms_opt(12, 0, 0).expect("noon")),
         body_mass_kg: mass,
     };
-    let decision = daily_carbohydrate(&input.sessions, &load, &upcoming);
+    let decision =
+        daily_carbohydrate_with(&input.sessions, &load, &upcoming, explain == Explain::Yes);
     let range = decision.range;
     let computed_protein = daily_protein(
         profile.goal,
@@ -263,7 +264,7 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
         (session_fuelling_g / mass + OTHER_MEALS_G_PER_KG).min(range_top(&decision));
     let from_work_g_per_kg = decision.g_per_kg;
     let mut decision = decision;
-    if fuelling_floor > decision.g_per_kg + 1e-9 {
+    if fuelling_floor > decision.g_per_kg + 1e-9 && explain == Explain::Yes {
         decision.text = format!(
             "{}; raised to {fuelling_floor:.2} g/kg so that the day holds its session fuelling ({session_fuelling_g:.0} g before, during and after the sessions) and about {OTHER_MEALS_G_PER_KG:.1} g/kg for the other meals",
             decision.text,
@@ -271,6 +272,8 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
             session_fuelling_g = Dec(session_fuelling_g),
             OTHER_MEALS_G_PER_KG = Dec(OTHER_MEALS_G_PER_KG)
         );
+    }
+    if fuelling_floor > decision.g_per_kg + 1e-9 {
         decision.g_per_kg = fuelling_floor;
     }
 

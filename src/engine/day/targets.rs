@@ -282,24 +282,41 @@ pub fn daily_carbohydrate(
     load: &DayLoad,
     upcoming: &Upcoming<'_>,
 ) -> CarbohydrateDecision {
+    daily_carbohydrate_with(today, load, upcoming, true)
+}
+
+/// [`daily_carbohydrate`]; with `texts` false the decision's `text` and
+/// `source` stay empty (they feed only the day's explanations). Every
+/// number is the same either way.
+pub(crate) fn daily_carbohydrate_with(
+    today: &[SessionWork],
+    load: &DayLoad,
+    upcoming: &Upcoming<'_>,
+    texts: bool,
+) -> CarbohydrateDecision {
+    let say = |text: &dyn Fn() -> String| if texts { text() } else { String::new() };
     let demand = load.fuel_demand_g_per_kg;
     let curve = work_curve(demand);
     let sessions = load.driving_sessions.clone();
-    let demand_text = format!(
-        "fuel demand {demand:.2} g/kg (today's sessions oxidise {:.2} g/kg, tomorrow's key work counts {:.2} g/kg, {:.2} g/kg of working-muscle glycogen to restore)",
-        Dec(load.carbohydrate_oxidised_g_per_kg),
-        Dec(load.next_day_key_carbohydrate_g_per_kg),
-        Dec(load.glycogen_to_restore_g_per_kg),
-        demand = Dec(demand)
-    );
-    let curve_text = format!(
-        "{WORK_CURVE_FLOOR:.0} + {WORK_CURVE_SPAN:.0} x (1 - e^(-{demand:.2}/{WORK_CURVE_SCALE:.0})) = {curve:.2} g/kg",
-        WORK_CURVE_FLOOR = Dec(WORK_CURVE_FLOOR),
-        WORK_CURVE_SPAN = Dec(WORK_CURVE_SPAN),
-        demand = Dec(demand),
-        WORK_CURVE_SCALE = Dec(WORK_CURVE_SCALE),
-        curve = Dec(curve)
-    );
+    let demand_text = say(&|| {
+        format!(
+            "fuel demand {demand:.2} g/kg (today's sessions oxidise {:.2} g/kg, tomorrow's key work counts {:.2} g/kg, {:.2} g/kg of working-muscle glycogen to restore)",
+            Dec(load.carbohydrate_oxidised_g_per_kg),
+            Dec(load.next_day_key_carbohydrate_g_per_kg),
+            Dec(load.glycogen_to_restore_g_per_kg),
+            demand = Dec(demand)
+        )
+    });
+    let curve_text = say(&|| {
+        format!(
+            "{WORK_CURVE_FLOOR:.0} + {WORK_CURVE_SPAN:.0} x (1 - e^(-{demand:.2}/{WORK_CURVE_SCALE:.0})) = {curve:.2} g/kg",
+            WORK_CURVE_FLOOR = Dec(WORK_CURVE_FLOOR),
+            WORK_CURVE_SPAN = Dec(WORK_CURVE_SPAN),
+            demand = Dec(demand),
+            WORK_CURVE_SCALE = Dec(WORK_CURVE_SCALE),
+            curve = Dec(curve)
+        )
+    });
     let range = load.band_range;
     let decision = CarbohydrateDecision {
         g_per_kg: curve,
@@ -310,20 +327,24 @@ pub fn daily_carbohydrate(
         },
         range,
         sessions: sessions.clone(),
-        text: format!(
-            "{}: {demand_text}; work curve {curve_text}, in the {} band ({:.0}-{:.0} g/kg)",
-            if today.is_empty() {
-                "Rest day"
-            } else {
-                "Fuel for the work"
-            },
-            load.band.name(),
-            Dec(range.min),
-            Dec(range.max),
-        ),
-        source: format!(
-            "{THOMAS_2016} (load bands); the work curve through them is our calibration (common practice: fuel for the work required)"
-        ),
+        text: say(&|| {
+            format!(
+                "{}: {demand_text}; work curve {curve_text}, in the {} band ({:.0}-{:.0} g/kg)",
+                if today.is_empty() {
+                    "Rest day"
+                } else {
+                    "Fuel for the work"
+                },
+                load.band.name(),
+                Dec(range.min),
+                Dec(range.max),
+            )
+        }),
+        source: say(&|| {
+            format!(
+                "{THOMAS_2016} (load bands); the work curve through them is our calibration (common practice: fuel for the work required)"
+            )
+        }),
     };
 
     // Competition rules, strongest first: loading, fuelling up, team-sport match.
@@ -354,16 +375,18 @@ pub fn daily_carbohydrate(
             rule: CarbohydrateRule::CarbohydrateLoading,
             range: CARBOHYDRATE_LOADING_RANGE,
             sessions: with(sessions, event.reference(day)),
-            text: format!(
-                "Carbohydrate loading for '{}' ({:.0} min, over 90 min, loading enabled) within the {:.0} h before it: the work curve ({curve_text}) held inside 10-12 g/kg: {value:.2} g/kg",
-                event.title,
-                Dec(event.minutes),
-                Dec(upcoming.loading_hours),
-                value = Dec(value)
-            ),
-            source: format!(
-                "{THOMAS_2016} (carbohydrate loading 10-12 g/kg for 36-48 h, from memory)"
-            ),
+            text: say(&|| {
+                format!(
+                    "Carbohydrate loading for '{}' ({:.0} min, over 90 min, loading enabled) within the {:.0} h before it: the work curve ({curve_text}) held inside 10-12 g/kg: {value:.2} g/kg",
+                    event.title,
+                    Dec(event.minutes),
+                    Dec(upcoming.loading_hours),
+                    value = Dec(value)
+                )
+            }),
+            source: say(&|| {
+                format!("{THOMAS_2016} (carbohydrate loading 10-12 g/kg for 36-48 h, from memory)")
+            }),
         };
     }
     if let Some(event) = upcoming
@@ -377,13 +400,17 @@ pub fn daily_carbohydrate(
             rule: CarbohydrateRule::FuellingUp,
             range: FUELLING_UP_RANGE,
             sessions: with(sessions, event.reference(RelativeDay::NextDay)),
-            text: format!(
-                "General fuelling up for '{}' ({:.0} min competition) tomorrow: {demand_text}; the work curve ({curve_text}) held inside 7-12 g/kg: {value:.2} g/kg",
-                event.title,
-                Dec(event.minutes),
-                value = Dec(value)
-            ),
-            source: format!("{THOMAS_2016} (general fuelling up 7-12 g/kg per 24 h, from memory)"),
+            text: say(&|| {
+                format!(
+                    "General fuelling up for '{}' ({:.0} min competition) tomorrow: {demand_text}; the work curve ({curve_text}) held inside 7-12 g/kg: {value:.2} g/kg",
+                    event.title,
+                    Dec(event.minutes),
+                    value = Dec(value)
+                )
+            }),
+            source: say(&|| {
+                format!("{THOMAS_2016} (general fuelling up 7-12 g/kg per 24 h, from memory)")
+            }),
         };
     }
     let match_today = today
@@ -413,11 +440,16 @@ pub fn daily_carbohydrate(
             rule,
             range: TEAM_SPORT_MATCH_RANGE,
             sessions: with(sessions, event.reference(day)),
-            text: format!(
-                "Team-sport match '{}' {when}: {demand_text}; the work curve ({curve_text}) held inside 6-8 g/kg for match day and the day before: {value:.2} g/kg",
-                event.title, value = Dec(value),
-            ),
-            source: "Expert group statement on nutrition in elite football (2021), 6-8 g/kg on match day and the day before [from memory]".into(),
+            text: say(&|| {
+                format!(
+                    "Team-sport match '{}' {when}: {demand_text}; the work curve ({curve_text}) held inside 6-8 g/kg for match day and the day before: {value:.2} g/kg",
+                    event.title,
+                    value = Dec(value),
+                )
+            }),
+            source: say(&|| {
+                "Expert group statement on nutrition in elite football (2021), 6-8 g/kg on match day and the day before [from memory]".into()
+            }),
         };
     }
     decision

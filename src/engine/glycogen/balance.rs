@@ -87,7 +87,9 @@ use crate::engine::glycogen::stores::GRAMS_PER_MMOL_GLUCOSYL;
 /// Echoed in every week plan so a reader sees what the numbers rest on.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, ToSchema)]
 pub struct GlycogenModel {
-    /// Longest integration interval, minutes.
+    /// Longest integration interval, minutes (30: against one-minute steps
+    /// it moves daily carbohydrate by hundredths of a g/kg, see
+    /// `week::step_tolerance_tests`).
     pub step_minutes: f64,
     /// Half-time of the gut pool, hours (our calibration).
     pub absorption_half_time_hours: f64,
@@ -118,7 +120,7 @@ pub struct GlycogenModel {
 impl Default for GlycogenModel {
     fn default() -> Self {
         Self {
-            step_minutes: 15.0,
+            step_minutes: 30.0,
             absorption_half_time_hours: 2.0,
             max_absorption_g_per_hour: 90.0,
             resting_glucose_use_mg_per_kg_min: 2.0,

@@ -149,13 +149,50 @@ pub fn baseline_carbohydrate_share(fraction_vo2max: f64, status: TrainingStatus)
     interpolate_points(baseline_anchors(status), fraction_vo2max)
 }
 
-/// Glycogen term of the model (1 at normal stores).
+/// Glycogen term of the model (1 at normal stores): relative muscle glycogen,
+/// clamped to [`GLYCOGEN_RELATIVE_RANGE`], to the power [`GLYCOGEN_EXPONENT`].
+///
+/// The session model evaluates it twice per integration step, so it reads a
+/// table of the exact power at every 0.001 of relative glycogen and
+/// interpolates linearly between neighbours: within 1e-6 of the exact power
+/// everywhere in the range (a test checks), a general `powf` costing several
+/// times as much.
 pub fn glycogen_term(relative_muscle_glycogen: f64) -> f64 {
-    let (low, high) = GLYCOGEN_RELATIVE_RANGE;
-    relative_muscle_glycogen
-        .clamp(low, high)
-        .powf(GLYCOGEN_EXPONENT)
+    let (low, _) = GLYCOGEN_RELATIVE_RANGE;
+    let table = &*GLYCOGEN_TERM_TABLE;
+    let x = clamp_relative(relative_muscle_glycogen);
+    // Scaled before the offset, so whole thousandths (1.0 among them) land
+    // exactly on a table point.
+    let t = x * GLYCOGEN_TERM_STEPS_PER_UNIT - low * GLYCOGEN_TERM_STEPS_PER_UNIT;
+    let i = (t as usize).min(table.len() - 2);
+    let within = t - i as f64;
+    table[i] + within * (table[i + 1] - table[i])
 }
+
+/// The exact glycogen term, which [`glycogen_term`] interpolates.
+pub fn glycogen_term_exact(relative_muscle_glycogen: f64) -> f64 {
+    clamp_relative(relative_muscle_glycogen).powf(GLYCOGEN_EXPONENT)
+}
+
+fn clamp_relative(relative_muscle_glycogen: f64) -> f64 {
+    let (low, high) = GLYCOGEN_RELATIVE_RANGE;
+    relative_muscle_glycogen.clamp(low, high)
+}
+
+/// Table points per unit of relative glycogen.
+const GLYCOGEN_TERM_STEPS_PER_UNIT: f64 = 1000.0;
+
+/// The exact power at `low + k / 1000` for every `k` up to the range's top.
+static GLYCOGEN_TERM_TABLE: std::sync::LazyLock<Vec<f64>> = std::sync::LazyLock::new(|| {
+    let (low, high) = GLYCOGEN_RELATIVE_RANGE;
+    let steps = ((high - low) * GLYCOGEN_TERM_STEPS_PER_UNIT).round() as usize;
+    (0..=steps)
+        .map(|k| {
+            let thousandths = (low * GLYCOGEN_TERM_STEPS_PER_UNIT).round() + k as f64;
+            (thousandths / GLYCOGEN_TERM_STEPS_PER_UNIT).powf(GLYCOGEN_EXPONENT)
+        })
+        .collect()
+});
 
 /// Time term of the model (1 at the start, falling slowly).
 pub fn time_term(elapsed_minutes: f64) -> f64 {
@@ -219,6 +256,25 @@ pub(crate) fn blood_glucose_share_from_start(at_start: f64, elapsed_minutes: f64
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn the_glycogen_term_table_is_the_exact_power_within_a_millionth() {
+        // From below the clamp to above it, every 1/7919 (no table alignment).
+        let mut worst: f64 = 0.0;
+        let mut previous = 0.0;
+        for k in 0..=15_000 {
+            let relative = 0.1 + k as f64 / 7919.0;
+            let (fast, exact) = (glycogen_term(relative), glycogen_term_exact(relative));
+            worst = worst.max((fast - exact).abs());
+            assert!(fast >= previous, "monotone at {relative}");
+            previous = fast;
+        }
+        assert!(worst < 1e-6, "largest difference {worst:e}");
+        // The model's anchors hold exactly: 1 at normal stores, the clamp ends.
+        assert_eq!(glycogen_term(1.0), 1.0);
+        assert_eq!(glycogen_term(0.05), 0.2_f64.powf(GLYCOGEN_EXPONENT));
+        assert!((glycogen_term(3.0) - 1.6_f64.powf(GLYCOGEN_EXPONENT)).abs() < 1e-15);
+    }
     use crate::engine::physiology::gas_exchange::{FAT_KCAL_PER_G, kcal_per_litre_oxygen_at_share};
     use proptest::prelude::*;
 

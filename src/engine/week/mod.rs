@@ -27,7 +27,7 @@
 //!    they were simulated.
 //! 2. **Plan the day** with [`crate::engine::day::plan::plan_day`] (settings, pins and health flags
 //!    passed through): targets and eating occasions.
-//! 3. **Simulate the day** in steps of at most 15 minutes, split at every
+//! 3. **Simulate the day** in steps of at most 30 minutes, split at every
 //!    eating occasion and session boundary ([`crate::engine::glycogen::balance`]):
 //!    intake is absorbed and refills the stores; the liver runs down at rest;
 //!    at each session's start the session is simulated again from the state
@@ -558,5 +558,7 @@ fn remap(error: InvalidInput, rename: impl Fn(&str) -> String) -> InvalidInput {
 mod plausibility_tests;
 #[cfg(test)]
 mod properties;
+#[cfg(test)]
+mod step_tolerance_tests;
 #[cfg(test)]
 mod tests;

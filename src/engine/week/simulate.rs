@@ -75,24 +75,24 @@ impl Planner<'_> {
                 (secs(session.start()), secs(session.end()))
             })
             .collect();
-        let mut points: Vec<i64> = Vec::with_capacity(128);
-        points.extend((0..DAY).step_by(step.max(1) as usize));
-        points.extend(intake_at.iter().copied());
+        // The grid is sorted already: only the few event times are sorted,
+        // then merged into it.
+        let mut events: Vec<i64> = Vec::with_capacity(intake_at.len() + 3 * starts_at.len() + 3);
+        events.extend(intake_at.iter().copied());
         for &(start, end) in &starts_at {
-            points.extend([start, end, end + early]);
+            events.extend([start, end, end + early]);
         }
         let mut active_end = timeline.active.map(|active| secs(active.end));
         if let Some(end) = active_end {
-            points.extend([end, end + early]);
+            events.extend([end, end + early]);
         }
         let mut last_end = timeline.last_session_end.map(secs);
         if let Some(end) = last_end {
-            points.push(end + early);
+            events.push(end + early);
         }
-        points.retain(|time| (0..DAY).contains(time));
-        points.sort_unstable();
-        points.dedup();
-        points.push(DAY);
+        events.retain(|time| (0..DAY).contains(time));
+        events.sort_unstable();
+        let points = merge_with_grid(step.max(1), DAY, &events);
         let mut slowed_until = timeline
             .slowed_until
             .map(|(until, slowing)| (secs(until), slowing));
@@ -189,5 +189,57 @@ impl Planner<'_> {
             series,
             flows: day_flows,
         })
+    }
+}
+
+/// The times `0, step, 2 step, ... < end` merged with the sorted `events`
+/// (each inside `0..end`), without repeats, then `end`.
+fn merge_with_grid(step: i64, end: i64, events: &[i64]) -> Vec<i64> {
+    let mut points = Vec::with_capacity((end / step) as usize + events.len() + 1);
+    let mut grid = 0;
+    let mut events = events.iter().copied().peekable();
+    loop {
+        let next = match events.peek() {
+            Some(&event) if event <= grid || grid >= end => {
+                events.next();
+                event
+            }
+            _ if grid < end => {
+                grid += step;
+                grid - step
+            }
+            _ => break,
+        };
+        if points.last() != Some(&next) {
+            points.push(next);
+        }
+    }
+    points.push(end);
+    points
+}
+
+#[cfg(test)]
+mod tests {
+    use super::merge_with_grid;
+
+    #[test]
+    fn the_merged_grid_equals_sorting_everything() {
+        let cases: [&[i64]; 5] = [
+            &[],
+            &[0],
+            &[899, 900, 900, 901],
+            &[5, 5, 86_399],
+            &[1_800, 25_200, 27_000, 27_000, 34_200, 41_400, 63_000],
+        ];
+        for events in cases {
+            let mut expected: Vec<i64> = (0..86_400)
+                .step_by(900)
+                .chain(events.iter().copied())
+                .collect();
+            expected.sort_unstable();
+            expected.dedup();
+            expected.push(86_400);
+            assert_eq!(merge_with_grid(900, 86_400, events), expected, "{events:?}");
+        }
     }
 }
