@@ -64,7 +64,14 @@ impl Planner<'_> {
             Explain::No
         };
         let mut plan = self.plan(&day_input, explain)?;
-        let run = self.simulate_day(&timeline, date, &plan.eating_occasions, today, athlete)?;
+        let run = self.simulate_day(
+            &timeline,
+            date,
+            &plan.eating_occasions,
+            today,
+            athlete,
+            in_span,
+        )?;
         let place = |list: &[usize], index: usize| list.iter().position(|&i| i == index);
         let starts = run
             .starts
@@ -108,7 +115,7 @@ impl Planner<'_> {
             start_assumption,
             day,
             athlete_level,
-            series: if in_span { run.series } else { Vec::new() },
+            series: run.series,
             starts,
             ends,
         })

@@ -33,7 +33,8 @@ pub(super) struct DayRun {
 }
 
 impl Planner<'_> {
-    /// Simulates one day from `timeline` with the day's eating occasions.
+    /// Simulates one day from `timeline` with the day's eating occasions;
+    /// the hourly glycogen series only for a day that is shown (`keep_series`).
     pub(super) fn simulate_day(
         &self,
         timeline: &Timeline,
@@ -41,6 +42,7 @@ impl Planner<'_> {
         occasions: &[EatingOccasion],
         today: &[usize],
         athlete: usize,
+        keep_series: bool,
     ) -> Result<DayRun, InvalidInput> {
         let model = &self.model;
         let resolved = &self.athletes[athlete];
@@ -99,7 +101,7 @@ impl Planner<'_> {
 
         let mut starts = Vec::new();
         let mut ends = Vec::new();
-        let mut series = Vec::with_capacity(26);
+        let mut series = Vec::with_capacity(if keep_series { 30 } else { 0 });
         let mut day_flows = GlycogenFlows::default();
         let mut starting = today.iter().zip(&starts_at).peekable();
         let mut eaten = 0;
@@ -155,7 +157,7 @@ impl Planner<'_> {
                 active_end = Some(end);
                 event = true;
             }
-            if event || now % 3600 == 0 {
+            if keep_series && (event || now % 3600 == 0) {
                 series.push(GlycogenPoint {
                     time: day_start + TimeDelta::seconds(now),
                     muscle_g: round_to(timeline.stores.muscle_g, 0.1),

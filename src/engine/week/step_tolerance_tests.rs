@@ -1,6 +1,6 @@
 //! The glycogen balance's integration step against a fine reference: the
 //! benchmark squad's two-week plans (the demo's player generator and senior
-//! week, carry-over week included) at the default step and at one-minute
+//! week, carry-over days included) at the default step and at one-minute
 //! steps. The bounds are what a dietitian could never see: a hundredth-scale
 //! change in g/kg (targets are prescribed to 0.1 g/kg at best), about 2 g
 //! of some 400-600 g of muscle glycogen, under 1 g of liver glycogen, and no

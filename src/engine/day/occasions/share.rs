@@ -123,13 +123,15 @@ pub(crate) fn split_tenths(total: f64, weights: &[f64]) -> Vec<f64> {
         .collect();
     let mut tenths: Vec<i64> = shares.iter().map(|s| s.floor() as i64).collect();
     let mut left = total_tenths - tenths.iter().sum::<i64>();
-    let mut order: Vec<usize> = (0..shares.len()).collect();
-    order.sort_by(|&a, &b| {
-        let fa = shares[a] - shares[a].floor();
-        let fb = shares[b] - shares[b].floor();
-        fb.total_cmp(&fa).then(a.cmp(&b))
-    });
-    for &i in order.iter().cycle() {
+    // Largest remainder first, ties by position (the pairs are distinct, so
+    // an unstable sort gives the one order).
+    let mut order: Vec<(f64, usize)> = shares
+        .iter()
+        .enumerate()
+        .map(|(i, s)| (s - s.floor(), i))
+        .collect();
+    order.sort_unstable_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(&b.1)));
+    for &(_, i) in order.iter().cycle() {
         if left <= 0 {
             break;
         }
