@@ -214,9 +214,21 @@ pub fn week_input(
     // Travel is planned by coaches but is not training: its small energy
     // cost sits inside the non-exercise activity factor, and it neither sets
     // the day's load band nor needs refuelling around it.
+    // The engine reads sessions from the day before the first simulated day
+    // (yesterday's work of that day) to two days after the span; the store
+    // loads a window wide enough for any span start, so trim it here.
+    let start_glycogen_given = options.start_glycogen_fraction.is_some();
+    let first_simulated = if start_glycogen_given {
+        options.span.0
+    } else {
+        carry_from(options.span.0)
+    };
+    let readable = (first_simulated - chrono::Days::new(1))
+        ..=(options.span.1 + chrono::Days::new(LOOK_AHEAD_DAYS));
     let sessions = data
         .sessions
         .iter()
+        .filter(|session| readable.contains(&session.local_date))
         .filter(|session| session.kind != SessionKind::Travel)
         .filter_map(|session| {
             let exception = data.participation.get(&(session.id, athlete.id));

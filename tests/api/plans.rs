@@ -508,3 +508,33 @@ async fn an_out_of_range_start_glycogen_fraction_is_refused_on_every_plan_read()
         );
     }
 }
+
+#[tokio::test]
+async fn sessions_weeks_before_the_span_do_not_stop_the_plan() {
+    // The store loads a window wide enough for a span starting on any
+    // weekday; the engine reads only from the day before its carry-over
+    // days, so older sessions must be left out, not rejected.
+    let app = spawn_app().await;
+    let team = app.team("History FC").await;
+    let athlete = app.athlete(team, "Rowan Test").await;
+    for back in [13u64, 11, 9, 6, 5, 1] {
+        let date = MONDAY.parse::<NaiveDate>().unwrap() - Days::new(back);
+        app.session(team, &date.to_string()).await;
+    }
+    app.session(team, MONDAY).await;
+    for from in [day(0), day(3), day(6)] {
+        let res = app
+            .get(
+                &format!("/v1/teams/{team}/plan/summary?from={from}&to={}", day(6)),
+                &app.admin,
+            )
+            .await;
+        let summary = body(res, 200).await;
+        assert_eq!(summary["unplanned"], json!([]), "span from {from}");
+        let rows = summary["rows"].as_array().unwrap();
+        assert!(
+            !rows.is_empty() && rows.iter().all(|r| r["athlete_id"] == athlete.to_string()),
+            "span from {from}: {rows:?}"
+        );
+    }
+}
