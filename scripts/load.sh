@@ -43,10 +43,10 @@ echo "==> building (release)" >&2
 # must know --ceiling-endpoint, or it came from another build: link again.
 for attempt in 1 2 3; do
   cargo build --release --locked --bin glycoweek --example loadgen >&2
-  cp "${GLYCOWEEK_BIN:-target/release/glycoweek}" "$work/glycoweek"
-  cp target/release/examples/loadgen "$work/loadgen"
+  cp "${GLYCOWEEK_BIN:-${CARGO_TARGET_DIR:-target}/release/glycoweek}" "$work/glycoweek"
+  cp "${CARGO_TARGET_DIR:-target}/release/examples/loadgen" "$work/loadgen"
   "$work/glycoweek" serve --help | grep -q -- '--ceiling-endpoint' && break
-  [ "$attempt" -lt 3 ] || { echo "target/release/glycoweek keeps changing under us" >&2; exit 1; }
+  [ "$attempt" -lt 3 ] || { echo "the release binary keeps changing under us" >&2; exit 1; }
 done
 service_pid=""
 bare_pid=""

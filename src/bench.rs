@@ -350,7 +350,11 @@ pub async fn api_rounds(rounds: usize) -> Result<Vec<(&'static str, ApiFigures)>
     .await
     .map_err(|e| err(&e))?
     .secret;
-    let state = crate::AppState::new(db.clone(), crate::Config::for_database(db_path.clone()));
+    // The service's default cache sizes, as a deployment runs them.
+    let mut config = crate::Config::for_database(db_path.clone());
+    config.plan_cache_mib = crate::config::DEFAULT_PLAN_CACHE_MIB;
+    config.plan_memo_mib = crate::config::DEFAULT_PLAN_MEMO_MIB;
+    let state = crate::AppState::new(db.clone(), config);
     let memo = state.plan_memo.clone();
     let app = crate::build_app(state);
     let summary = format!(

@@ -51,7 +51,7 @@ pub struct Config {
     pub ceiling_endpoint: bool,
     /// Memory for computed plans, MiB (plans are keyed by their inputs'
     /// version, so a cached plan is never stale); 0 turns the cache off.
-    #[arg(long = "plan-cache-mib", value_name = "MIB", env = "GLYCOWEEK_PLAN_CACHE_MIB", default_value_t = 16,
+    #[arg(long = "plan-cache-mib", value_name = "MIB", env = "GLYCOWEEK_PLAN_CACHE_MIB", default_value_t = DEFAULT_PLAN_CACHE_MIB as u64,
           value_parser = clap::value_parser!(u64).range(0..=16384))]
     pub plan_cache_mib_raw: u64,
     /// How long a squad-board sign-in lasts, hours (1 to 168).
@@ -68,7 +68,7 @@ pub struct Config {
     /// Memory for per-athlete week plans and (in half of it) their simulated
     /// days, MiB: a change recomputes only the athletes and days it reaches;
     /// 0 turns the memo off.
-    #[arg(long = "plan-memo-mib", value_name = "MIB", env = "GLYCOWEEK_PLAN_MEMO_MIB", default_value_t = 16,
+    #[arg(long = "plan-memo-mib", value_name = "MIB", env = "GLYCOWEEK_PLAN_MEMO_MIB", default_value_t = DEFAULT_PLAN_MEMO_MIB as u64,
           value_parser = clap::value_parser!(u64).range(0..=16384))]
     pub plan_memo_mib_raw: u64,
     #[arg(skip)]
@@ -77,12 +77,20 @@ pub struct Config {
     pub body_limit_bytes: usize,
 }
 
+/// Default memory for computed plan bodies, MiB.
+pub const DEFAULT_PLAN_CACHE_MIB: usize = 8;
+/// Default memory for per-athlete plans and their days, MiB: a 40-athlete
+/// week keeps about 3 MB of days.
+pub const DEFAULT_PLAN_MEMO_MIB: usize = 8;
+
 impl Config {
     /// Fills derived values after parsing.
     pub fn finish(mut self) -> Self {
         self.body_limit_bytes = usize::try_from(self.body_limit_bytes_raw).unwrap_or(1_048_576);
-        self.plan_cache_mib = usize::try_from(self.plan_cache_mib_raw).unwrap_or(16);
-        self.plan_memo_mib = usize::try_from(self.plan_memo_mib_raw).unwrap_or(16);
+        self.plan_cache_mib =
+            usize::try_from(self.plan_cache_mib_raw).unwrap_or(DEFAULT_PLAN_CACHE_MIB);
+        self.plan_memo_mib =
+            usize::try_from(self.plan_memo_mib_raw).unwrap_or(DEFAULT_PLAN_MEMO_MIB);
         self
     }
 
