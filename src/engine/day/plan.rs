@@ -170,7 +170,7 @@ pub(crate) enum Explain {
 /// [`plan_day`], leaving out the explanations when they will not be shown.
 /// Every number is the same either way.
 pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPlan, InvalidInput> {
-    validate(input)?;
+    validate_day(input)?;
     let profile = &input.profile;
     let settings = &input.settings;
     let mass = profile.body_mass_kg;
@@ -582,7 +582,9 @@ pub(crate) fn plan_day_with(input: &DayInput, explain: Explain) -> Result<DayPla
     })
 }
 
-fn validate(input: &DayInput) -> Result<(), InvalidInput> {
+/// Every check [`plan_day`] makes of its input, all issues at once: a day
+/// plan can fail only here.
+pub(crate) fn validate_day(input: &DayInput) -> Result<(), InvalidInput> {
     let mut issues = Issues::default();
     let p = &input.profile;
     issues.range("profile.age_years", p.age_years, 10.0, 100.0, "years");

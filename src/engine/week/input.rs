@@ -265,8 +265,8 @@ pub(super) fn validate(input: &WeekInput) -> Result<ResolvedAthlete, InvalidInpu
         pins: DayPins::default(),
         health_flags: Vec::new(),
     };
-    // Only its issues are read: no explanation texts.
-    if let Err(error) = plan_day_with(&blank_day, Explain::No) {
+    // The day planner's own checks (a day plan fails only there).
+    if let Err(error) = validate_day(&blank_day) {
         for issue in error.issues {
             if !issues.0.iter().any(|known| known.field == issue.field) {
                 issues.0.push(issue);

@@ -72,7 +72,7 @@ use uuid::Uuid;
 use crate::engine::day::energy_availability::EnergyAvailabilityBand;
 use crate::engine::day::notes::{Severity, Warning, WarningCode};
 use crate::engine::day::occasions::EatingOccasion;
-use crate::engine::day::plan::{DayInput, DayPlan, Explain, plan_day_with};
+use crate::engine::day::plan::{DayInput, DayPlan, Explain, plan_day_with, validate_day};
 use crate::engine::day::session_fuelling::{
     SPEEDY_REFUELLING_GAP_HOURS, SPEEDY_REFUELLING_MAX_HOURS,
 };
