@@ -214,21 +214,9 @@ pub fn week_input(
     // Travel is planned by coaches but is not training: its small energy
     // cost sits inside the non-exercise activity factor, and it neither sets
     // the day's load band nor needs refuelling around it.
-    // The engine reads sessions from the day before the first simulated day
-    // (yesterday's work of that day) to two days after the span; the store
-    // loads a window wide enough for any span start, so trim it here.
-    let start_glycogen_given = options.start_glycogen_fraction.is_some();
-    let first_simulated = if start_glycogen_given {
-        options.span.0
-    } else {
-        carry_from(options.span.0)
-    };
-    let readable = (first_simulated - chrono::Days::new(1))
-        ..=(options.span.1 + chrono::Days::new(LOOK_AHEAD_DAYS));
     let sessions = data
         .sessions
         .iter()
-        .filter(|session| readable.contains(&session.local_date))
         .filter(|session| session.kind != SessionKind::Travel)
         .filter_map(|session| {
             let exception = data.participation.get(&(session.id, athlete.id));
@@ -294,7 +282,7 @@ pub fn week_input(
         }
     });
     let _ = note;
-    Ok(WeekInput {
+    let mut input = WeekInput {
         athlete_id: Some(athlete.id),
         profile,
         body_mass_by_date,
@@ -309,7 +297,16 @@ pub fn week_input(
         thresholds: options.thresholds,
         include_session_fuel: options.include_session_fuel,
         explain_days: options.explain_days,
-    })
+    };
+    // The engine reads sessions from the day before the first simulated day
+    // (that day's "yesterday") to two days after the span; the store loads a
+    // window wide enough for any span start, so trim it to what is read.
+    let readable = (input.first_simulated_day() - chrono::Days::new(1))
+        ..=(input.to + chrono::Days::new(LOOK_AHEAD_DAYS));
+    input
+        .sessions
+        .retain(|session| readable.contains(&session.date));
+    Ok(input)
 }
 
 /// Plans every athlete in `athletes`, spread over the machine's cores.
